@@ -1,0 +1,160 @@
+r"""Element matrices for all elements at once.
+
+Local axes of an element: x along the member from start to end node, z the
+part of the orientation vector perpendicular to x, y = z x x.  Local DOFs per
+node are ``[u, v, w, theta_x, theta_y, theta_z]``; the 12 DOFs of an element
+are those of its start node followed by those of its end node.
+
+Beam (Euler-Bernoulli, cubic Hermite bending, linear axial and twist):
+
+.. math::
+
+    K_e = \int_0^L B^T D B \, dx, \qquad
+    K_{g} = P \int_0^L \phi'^T \phi' \, dx + \frac{P I_p}{A L}
+            \begin{bmatrix} 1 & -1 \\ -1 & 1 \end{bmatrix}_{\theta_x}
+
+with ``P`` the axial force (tension positive).  In the x-y plane the DOFs are
+``(v1, theta_z1, v2, theta_z2)`` and
+
+.. math::
+
+    \frac{P}{30 L}\begin{bmatrix} 36 & 3L & -36 & 3L \\ 3L & 4L^2 & -3L & -L^2 \\
+    -36 & -3L & 36 & -3L \\ 3L & -L^2 & -3L & 4L^2 \end{bmatrix};
+
+in the x-z plane (``theta_y = -dw/dx``) the signs of the coupling terms flip.
+Bars carry only axial stiffness ``EA/L`` and the string geometric stiffness
+``P/L (I - e e^T)`` on the translations.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .model import Frame
+
+
+def local_axes(frame: Frame) -> tuple[np.ndarray, np.ndarray]:
+    """Rotation matrices ``R`` (e, 3, 3), rows = local x, y, z; and lengths (e,)."""
+    p = frame.nodes
+    d = p[frame.elements[:, 1]] - p[frame.elements[:, 0]]
+    L = np.linalg.norm(d, axis=1)
+    ex = d / L[:, None]
+    o = frame.orientation
+    ez = o - np.einsum("ij,ij->i", o, ex)[:, None] * ex
+    ez /= np.linalg.norm(ez, axis=1)[:, None]
+    ey = np.cross(ez, ex)
+    return np.stack([ex, ey, ez], axis=1), L
+
+
+def transformation(R: np.ndarray) -> np.ndarray:
+    """12 x 12 block-diagonal transformation ``T`` (local = T @ global)."""
+    T = np.zeros((len(R), 12, 12))
+    for b in range(4):
+        T[:, 3 * b:3 * b + 3, 3 * b:3 * b + 3] = R
+    return T
+
+
+def beam_elastic_local(L, E, G, A, Iy, Iz, J) -> np.ndarray:
+    """Local elastic stiffness of 3D Euler-Bernoulli beams, shape (e, 12, 12)."""
+    n = len(L)
+    K = np.zeros((n, 12, 12))
+    ea = E * A / L
+    gj = G * J / L
+    _put(K, (0, 6), ea[:, None, None] * np.array([[1, -1], [-1, 1]]))
+    _put(K, (3, 9), gj[:, None, None] * np.array([[1, -1], [-1, 1]]))
+    # x-y plane bending, DOFs v, theta_z: EIz
+    _put(K, (1, 5, 7, 11), _bend(E * Iz, L, +1))
+    # x-z plane bending, DOFs w, theta_y: EIy, coupling signs flipped
+    _put(K, (2, 4, 8, 10), _bend(E * Iy, L, -1))
+    return K
+
+
+def _bend(EI, L, s):
+    L2 = L * L
+    c = EI / (L2 * L)
+    m = np.empty((len(L), 4, 4))
+    m[:, 0, 0] = 12; m[:, 0, 1] = s * 6 * L; m[:, 0, 2] = -12; m[:, 0, 3] = s * 6 * L
+    m[:, 1, 1] = 4 * L2; m[:, 1, 2] = -s * 6 * L; m[:, 1, 3] = 2 * L2
+    m[:, 2, 2] = 12; m[:, 2, 3] = -s * 6 * L
+    m[:, 3, 3] = 4 * L2
+    iu = np.triu_indices(4, 1)
+    m[:, iu[1], iu[0]] = m[:, iu[0], iu[1]]
+    return c[:, None, None] * m
+
+
+def geometric_4x4(L, s=+1) -> np.ndarray:
+    r"""Plane geometric stiffness per unit axial force, ``\int phi'^T phi' dx``.
+
+    DOFs ``(v1, theta1, v2, theta2)`` with ``theta = dv/dx`` for ``s = +1``
+    (``theta = -dv/dx`` for ``s = -1``).  Shape (e, 4, 4).
+    """
+    L = np.asarray(L, dtype=float)
+    L2 = L * L
+    m = np.empty((len(L), 4, 4))
+    m[:, 0, 0] = 36; m[:, 0, 1] = s * 3 * L; m[:, 0, 2] = -36; m[:, 0, 3] = s * 3 * L
+    m[:, 1, 1] = 4 * L2; m[:, 1, 2] = -s * 3 * L; m[:, 1, 3] = -L2
+    m[:, 2, 2] = 36; m[:, 2, 3] = -s * 3 * L
+    m[:, 3, 3] = 4 * L2
+    iu = np.triu_indices(4, 1)
+    m[:, iu[1], iu[0]] = m[:, iu[0], iu[1]]
+    return m / (30 * L)[:, None, None]
+
+
+def beam_geometric_local(L, A, Ip) -> np.ndarray:
+    """Local geometric stiffness of beams per unit axial force, (e, 12, 12)."""
+    n = len(L)
+    G = np.zeros((n, 12, 12))
+    _put(G, (1, 5, 7, 11), geometric_4x4(L, +1))
+    _put(G, (2, 4, 8, 10), geometric_4x4(L, -1))
+    r2 = Ip / A / L
+    _put(G, (3, 9), r2[:, None, None] * np.array([[1, -1], [-1, 1]]))
+    return G
+
+
+def bar_elastic_local(L, E, A) -> np.ndarray:
+    K = np.zeros((len(L), 12, 12))
+    _put(K, (0, 6), (E * A / L)[:, None, None] * np.array([[1, -1], [-1, 1]]))
+    return K
+
+
+def bar_geometric_local(L) -> np.ndarray:
+    G = np.zeros((len(L), 12, 12))
+    m = (1.0 / L)[:, None, None] * np.array([[1, -1], [-1, 1]])
+    _put(G, (1, 7), m)
+    _put(G, (2, 8), m)
+    return G
+
+
+def _put(M, idx, block):
+    idx = np.asarray(idx)
+    M[:, idx[:, None], idx[None, :]] += block
+
+
+def element_matrices(frame: Frame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Global elastic stiffness and unit-force geometric stiffness of every element.
+
+    Returns ``(Ke, Ge, T)``, each (e, 12, 12): ``Kg_element = P * Ge``.
+    """
+    R, L = local_axes(frame)
+    T = transformation(R)
+    beam = ~frame.bar
+    Kl = np.zeros((frame.n_elements, 12, 12))
+    Gl = np.zeros_like(Kl)
+    if beam.any():
+        b = beam
+        Kl[b] = beam_elastic_local(L[b], frame.E[b], frame.G[b], frame.A[b],
+                                   frame.Iy[b], frame.Iz[b], frame.J[b])
+        Gl[b] = beam_geometric_local(L[b], frame.A[b], frame.Ip[b])
+    if frame.bar.any():
+        b = frame.bar
+        Kl[b] = bar_elastic_local(L[b], frame.E[b], frame.A[b])
+        Gl[b] = bar_geometric_local(L[b])
+    Ke = np.einsum("eji,ejk,ekl->eil", T, Kl, T, optimize=True)
+    Ge = np.einsum("eji,ejk,ekl->eil", T, Gl, T, optimize=True)
+    return Ke, Ge, T
+
+
+def element_dofs(frame: Frame) -> np.ndarray:
+    """Global DOF numbers of every element, shape (e, 12)."""
+    c = np.arange(6)
+    return np.concatenate([6 * frame.elements[:, :1] + c, 6 * frame.elements[:, 1:] + c], axis=1)

@@ -1,0 +1,241 @@
+"""The structural model as validated numpy arrays (no file I/O here).
+
+A :class:`Frame` holds nodes, two-node elements and per-element section
+properties; a :class:`LoadCase` holds one axial force per element.  All
+arrays are read-only after construction.
+
+Degrees of freedom are numbered node-major, six per node, in global axes:
+``dof = 6 * node + c`` with ``c`` in ``[ux, uy, uz, rx, ry, rz]``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import InputError
+
+DOF_NAMES = ("ux", "uy", "uz", "rx", "ry", "rz")
+SECTION_FIELDS = ("E", "G", "A", "Iy", "Iz", "J")
+#: Members closer than this (sine of the angle) to the global Z axis are
+#: "vertical" and get global X as their default orientation vector.
+VERTICAL_TOL = 1e-6
+
+
+def _frozen(a, dtype=float):
+    a = np.array(a, dtype=dtype, copy=True)
+    a.setflags(write=False)
+    return a
+
+
+def default_orientation(nodes: np.ndarray, elements: np.ndarray) -> np.ndarray:
+    """Global Z for every element, global X for (nearly) vertical ones."""
+    d = nodes[elements[:, 1]] - nodes[elements[:, 0]]
+    L = np.linalg.norm(d, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        horiz = np.hypot(d[:, 0], d[:, 1]) / L
+    out = np.zeros((len(elements), 3))
+    vertical = horiz < VERTICAL_TOL
+    out[~vertical, 2] = 1.0
+    out[vertical, 0] = 1.0
+    return out
+
+
+@dataclass(frozen=True)
+class Frame:
+    """Nodes, elements and sections of a 3D frame or truss.
+
+    Attributes
+    ----------
+    nodes : (n, 3) float
+    elements : (e, 2) int, node indices of start and end
+    E, G, A, Iy, Iz, J, Ip : (e,) float
+        Young's and shear modulus, area, second moments about local y and z,
+        torsion constant, polar second moment (``Iy + Iz`` unless given).
+    orientation : (e, 3) float
+        Vector that with the element axis spans the local x-z plane.
+    bar : (e,) bool
+        Pin-ended axial-only member.
+    restraint : (n, 6) bool
+        Fixed global DOFs.
+    parent : (e,) int
+        Index of the input cell each element comes from.
+    """
+
+    nodes: np.ndarray
+    elements: np.ndarray
+    E: np.ndarray
+    G: np.ndarray
+    A: np.ndarray
+    Iy: np.ndarray
+    Iz: np.ndarray
+    J: np.ndarray
+    Ip: np.ndarray
+    orientation: np.ndarray
+    bar: np.ndarray
+    restraint: np.ndarray
+    parent: np.ndarray
+    source: str = "<model>"
+
+    @property
+    def n_nodes(self) -> int:
+        return len(self.nodes)
+
+    @property
+    def n_elements(self) -> int:
+        return len(self.elements)
+
+    @property
+    def n_dofs(self) -> int:
+        return 6 * len(self.nodes)
+
+    def lengths(self) -> np.ndarray:
+        d = self.nodes[self.elements[:, 1]] - self.nodes[self.elements[:, 0]]
+        return np.linalg.norm(d, axis=1)
+
+    def replace(self, **changes) -> "Frame":
+        kw = {k: getattr(self, k) for k in self.__dataclass_fields__}
+        kw.update(changes)
+        return make_frame(**kw)
+
+
+@dataclass(frozen=True)
+class LoadCase:
+    """One load case: an axial force per element (tension positive)."""
+
+    name: str
+    axial: np.ndarray
+    extra: dict = field(default_factory=dict, compare=False)
+
+
+def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
+               bar=None, restraint=None, parent=None, source="<model>") -> Frame:
+    """Build a :class:`Frame`, broadcasting scalars and validating everything.
+
+    Raises :class:`InputError` naming the element or node at fault.
+    """
+    nodes = np.asarray(nodes, dtype=float)
+    if nodes.ndim != 2 or nodes.shape[1] not in (2, 3):
+        raise InputError(f"points must have shape (n, 3), got {nodes.shape}", source=source)
+    if nodes.shape[1] == 2:
+        nodes = np.column_stack([nodes, np.zeros(len(nodes))])
+    elements = np.asarray(elements)
+    if elements.ndim != 2 or elements.shape[1] != 2 or len(elements) == 0:
+        raise InputError("no two-node line elements in the model", source=source)
+    elements = elements.astype(np.int64)
+    ne, nn = len(elements), len(nodes)
+    bad = np.flatnonzero((elements < 0).any(1) | (elements >= nn).any(1))
+    if bad.size:
+        raise InputError(f"cell {bad[0]} refers to a point that does not exist", source=source)
+    _check_finite(nodes, "points", source, per="point")
+
+    parent = np.arange(ne) if parent is None else np.asarray(parent, dtype=np.int64)
+    props = {}
+    for name, val in (("E", E), ("G", G), ("A", A), ("Iy", Iy), ("Iz", Iz), ("J", J)):
+        props[name] = _per_element(val, name, ne, source, parent)
+    props["Ip"] = (props["Iy"] + props["Iz"]) if Ip is None else _per_element(Ip, "Ip", ne, source, parent)
+
+    bar = np.zeros(ne, bool) if bar is None else _per_element(bar, "bar", ne, source, parent).astype(bool)
+    # bars need only E and A; beams need everything strictly positive
+    for name in ("E", "A"):
+        _check_positive(props[name], name, source, parent=parent)
+    for name in ("G", "Iy", "Iz", "J", "Ip"):
+        _check_positive(props[name], name, source, where=~bar, parent=parent)
+
+    L = np.linalg.norm(nodes[elements[:, 1]] - nodes[elements[:, 0]], axis=1)
+    scale = max(float(np.ptp(nodes, axis=0).max()), float(L.max()), 1e-300)
+    zero = np.flatnonzero(L <= 1e-9 * scale)
+    if zero.size:
+        raise InputError(
+            f"cell {parent[zero[0]]} has zero length (points {elements[zero[0], 0]} and "
+            f"{elements[zero[0], 1]} coincide); {zero.size} such cell(s)", source=source)
+
+    if orientation is None:
+        orientation = default_orientation(nodes, elements)
+    else:
+        orientation = np.asarray(orientation, dtype=float)
+        if orientation.shape != (ne, 3):
+            raise InputError(f"field 'orientation' must have shape ({ne}, 3), got {orientation.shape}",
+                             source=source)
+        _check_finite(orientation, "orientation", source, labels=parent)
+        axis = (nodes[elements[:, 1]] - nodes[elements[:, 0]]) / L[:, None]
+        on = np.linalg.norm(orientation, axis=1)
+        perp = np.linalg.norm(np.cross(axis, orientation), axis=1)
+        badv = np.flatnonzero(~bar & (perp <= 1e-6 * np.maximum(on, 1e-300)))
+        if badv.size:
+            raise InputError(
+                f"field 'orientation' of cell {parent[badv[0]]} is zero or parallel to the member axis; "
+                f"{badv.size} such cell(s)", source=source)
+        # bars do not need an orientation; give them a valid one
+        if bar.any():
+            orientation = orientation.copy()
+            dflt = default_orientation(nodes, elements)
+            fix = bar & (perp <= 1e-6 * np.maximum(on, 1e-300))
+            orientation[fix] = dflt[fix]
+
+    if restraint is None:
+        restraint = np.zeros((nn, 6), bool)
+    else:
+        r = np.asarray(restraint)
+        if r.shape != (nn, 6):
+            raise InputError(f"point field 'restraint' must have shape ({nn}, 6), got {r.shape}",
+                             source=source)
+        if not np.isfinite(r.astype(float)).all() or not np.isin(r, (0, 1)).all():
+            p = np.flatnonzero(~np.isin(r, (0, 1)).all(axis=1))[0]
+            raise InputError(f"point field 'restraint' must hold only 0 or 1; point {p} has {r[p].tolist()}",
+                             source=source)
+        restraint = r.astype(bool)
+
+    return Frame(nodes=_frozen(nodes), elements=_frozen(elements, np.int64),
+                 **{k: _frozen(v) for k, v in props.items()},
+                 orientation=_frozen(orientation), bar=_frozen(bar, bool),
+                 restraint=_frozen(restraint, bool), parent=_frozen(parent, np.int64),
+                 source=source)
+
+
+def make_case(name: str, axial, frame: Frame, source: str | None = None) -> LoadCase:
+    """Validate an axial-force array against ``frame``."""
+    src = source or frame.source
+    a = np.asarray(axial, dtype=float)
+    if a.ndim == 0:
+        a = np.full(frame.n_elements, float(a))
+    a = a.reshape(-1) if a.ndim == 2 and 1 in a.shape else a
+    if a.shape != (frame.n_elements,):
+        raise InputError(f"axial force of case '{name}' must have one value per cell "
+                         f"({frame.n_elements}), got shape {a.shape}", source=src)
+    _check_finite(a, f"axial force of case '{name}'", src, labels=frame.parent)
+    return LoadCase(name=name, axial=_frozen(a))
+
+
+def _per_element(val, name, ne, source, parent=None):
+    a = np.asarray(val, dtype=float)
+    if a.ndim == 0:
+        a = np.full(ne, float(a))
+    if a.ndim == 2 and a.shape[1] == 1:
+        a = a[:, 0]
+    if a.shape != (ne,):
+        raise InputError(f"field '{name}' must have one value per cell ({ne}), got shape {a.shape}",
+                         source=source)
+    _check_finite(a, name, source, labels=parent)
+    return a
+
+
+def _check_finite(a, name, source, per="cell", labels=None):
+    ok = np.isfinite(a)
+    if not ok.all():
+        idx = np.flatnonzero(~ok.reshape(len(a), -1).all(axis=1))
+        first = idx[0] if labels is None else labels[idx[0]]
+        raise InputError(f"field '{name}' has NaN or infinite values at {per} {first}"
+                         f" ({idx.size} {per}(s) in all)", source=source)
+
+
+def _check_positive(a, name, source, where=None, parent=None):
+    bad = a <= 0
+    if where is not None:
+        bad &= where
+    idx = np.flatnonzero(bad)
+    if idx.size:
+        cell = idx[0] if parent is None else parent[idx[0]]
+        raise InputError(f"field '{name}' must be positive; cell {cell} has {a[idx[0]]:g}"
+                         f" ({idx.size} cell(s) in all)", source=source)

@@ -1,0 +1,239 @@
+r"""Supports, factorization and the buckling eigensolution.
+
+The load factors are the positive roots of :math:`(K + \lambda K_g)\phi = 0`.
+With :math:`K` symmetric positive definite on the free DOFs we iterate on
+
+.. math::  -K_g \phi = \mu K \phi, \qquad \mu = 1/\lambda,
+
+for the largest algebraic :math:`\mu` (ARPACK in generalized mode with
+:math:`K^{-1}` applied from one factorization).  Shift-invert about
+:math:`\sigma = 0` on the original pencil is *not* used: :math:`-K_g` is
+indefinite whenever some members are in tension.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.linalg as sla
+import scipy.sparse as sp
+import scipy.sparse.csgraph as csgraph
+import scipy.sparse.linalg as spla
+
+from .errors import ModelError, SolverError
+from .model import DOF_NAMES, Frame
+
+#: relative pivot below which a DOF is taken as free (mechanism)
+PIVOT_TOL = 1e-11
+#: relative eigen-residual above which a mode is refused
+RESIDUAL_TOL = 1e-6
+#: models with at most this many free DOFs are solved densely by default
+DENSE_LIMIT = 240
+
+
+@dataclass(frozen=True)
+class Constraints:
+    free: np.ndarray            # free DOF numbers
+    fixed: np.ndarray           # (n_dofs,) bool
+    n_auto: int                 # rotational DOFs restrained because nothing stiffens them
+    planar_axis: int | None     # global axis normal to the plane of a planar model
+    notes: tuple = ()
+
+
+def find_constraints(frame: Frame, K: sp.spmatrix, planar: bool | str = "auto") -> Constraints:
+    """Fixed DOFs: restraints, DOFs with no stiffness at all, and planar out-of-plane DOFs."""
+    n = frame.n_nodes
+    fixed = frame.restraint.reshape(-1).copy()
+    notes = []
+    diag = np.abs(K.diagonal()).reshape(n, 6)
+    rot = diag[:, 3:]
+    ref = rot.max() if rot.size and rot.max() > 0 else 1.0
+    auto = (rot <= 1e-14 * ref) & ~frame.restraint[:, 3:]
+    fixed.reshape(n, 6)[:, 3:] |= auto
+    n_auto = int(auto.sum())
+    if n_auto:
+        notes.append(f"{n_auto} rotational DOF(s) with no element stiffness (nodes joined only "
+                     f"by bars or released members) were restrained automatically")
+    axis = None
+    if planar is True or planar == "auto":
+        axis = plane_axis(frame.nodes)
+        if axis is not None:
+            oop = out_of_plane_dofs(axis)
+            if planar == "auto" and frame.restraint[:, oop].any():
+                axis = None
+            else:
+                fixed.reshape(n, 6)[:, oop] = True
+                notes.append(f"planar model in the {'XYZ'.replace('XYZ'[axis], '')} plane: analysed in "
+                             f"its plane (out-of-plane DOFs {', '.join(DOF_NAMES[i] for i in oop)} "
+                             f"restrained)")
+    free = np.flatnonzero(~fixed)
+    return Constraints(free, fixed, n_auto, axis, tuple(notes))
+
+
+def plane_axis(nodes: np.ndarray) -> int | None:
+    """Global axis normal to the plane of the nodes, or None if not planar in a global plane."""
+    span = np.ptp(nodes, axis=0)
+    scale = span.max()
+    if scale <= 0:
+        return None
+    flat = span <= 1e-9 * scale
+    if flat.sum() == 1:
+        return int(np.flatnonzero(flat)[0])
+    return None
+
+
+def out_of_plane_dofs(axis: int) -> list[int]:
+    others = [i for i in range(3) if i != axis]
+    return [axis] + [3 + i for i in others]
+
+
+def describe_node(node: int, n_input: int, fine: Frame | None = None, coarse_cell=None) -> str:
+    if node < n_input:
+        return f"point {node}"
+    if coarse_cell is not None:
+        return f"a sub-division point inside cell {coarse_cell[node]}"
+    return f"sub-division point {node}"
+
+
+def check_supported(frame: Frame, cons: Constraints, n_input: int, source: str):
+    """Refuse parts of the structure that have no restrained DOF at all."""
+    e = frame.elements
+    g = sp.coo_matrix((np.ones(len(e)), (e[:, 0], e[:, 1])), shape=(frame.n_nodes,) * 2)
+    ncomp, label = csgraph.connected_components(g, directed=False)
+    used = np.zeros(frame.n_nodes, bool)
+    used[e.ravel()] = True
+    fixed = cons.fixed.reshape(-1, 6)
+    for c in range(ncomp):
+        members = np.flatnonzero((label == c) & used)
+        if members.size == 0:
+            continue
+        if not fixed[members, :3].any():
+            pts = [int(p) for p in members if p < n_input][:8]
+            raise ModelError(
+                f"a part of the structure has no support: points {pts}"
+                f"{' ...' if members.size > 8 else ''} ({members.size} points) are not connected "
+                f"to any restrained point. Probable cause: a missing support or a missing joint "
+                f"between parts", source=source)
+    return ncomp
+
+
+class Factor:
+    """Sparse LU of the (symmetric positive definite) free-free stiffness, factored once."""
+
+    def __init__(self, Kff: sp.spmatrix):
+        Kff = sp.csc_matrix(Kff)
+        self.n = Kff.shape[0]
+        self.lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                            options={"SymmetricMode": True})
+
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        return self.lu.solve(np.asarray(b, dtype=float))
+
+    def pivots(self) -> tuple[np.ndarray, np.ndarray]:
+        """(pivot, column) pairs of the factorization."""
+        return self.lu.U.diagonal(), self.lu.perm_c
+
+
+def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, source: str,
+              coarse_cell=None) -> tuple[Factor, sp.csr_matrix]:
+    """Factor K on the free DOFs; refuse a singular (mechanism) stiffness naming free DOFs."""
+    free = cons.free
+    Kff = sp.csr_matrix(K)[free][:, free]
+    d = np.abs(Kff.diagonal())
+    try:
+        f = Factor(Kff)
+        piv, cols = f.pivots()
+        ratio = np.abs(piv) / np.maximum(d[cols], 1e-300)
+        bad = cols[(ratio < PIVOT_TOL) | (piv <= 0)]
+    except RuntimeError:  # exactly singular: diagnose on a slightly shifted matrix
+        shifted = Kff + sp.diags(1e-9 * np.maximum(d, d.max() * 1e-12))
+        f2 = Factor(shifted)
+        piv, cols = f2.pivots()
+        bad = cols[np.abs(piv) / np.maximum(d[cols], 1e-300) < 1e-6]
+        if bad.size == 0:
+            bad = cols[np.argsort(np.abs(piv) / np.maximum(d[cols], 1e-300))[:1]]
+    if bad.size:
+        gdofs = free[np.sort(bad)]
+        raise ModelError(_mechanism_message(gdofs, frame, n_input, coarse_cell), source=source)
+    return f, Kff
+
+
+def _mechanism_message(gdofs, frame: Frame, n_input: int, coarse_cell) -> str:
+    nodes = gdofs // 6
+    comps = gdofs % 6
+    parts = []
+    for node in np.unique(nodes)[:8]:
+        names = [DOF_NAMES[c] for c in comps[nodes == node]]
+        parts.append(f"{describe_node(int(node), n_input, frame, coarse_cell)} ({', '.join(names)})")
+    more = len(np.unique(nodes)) - 8
+    rot_only = (comps >= 3).all()
+    if rot_only and set(comps.tolist()) <= {3, 4, 5}:
+        cause = ("members free to rotate about their own axis or at a joint: restrain the twist "
+                 "(rx/ry/rz) at a support or check releases")
+    else:
+        cause = ("a mechanism: missing supports, pin-jointed bars without triangulation, or a "
+                 "member connected at one end only")
+    return (f"the stiffness matrix is singular (the structure is a mechanism). Free DOFs: "
+            f"{'; '.join(parts)}{f'; and {more} more points' if more > 0 else ''}. "
+            f"Probable cause: {cause}")
+
+
+@dataclass
+class EigenResult:
+    load_factors: np.ndarray         # (k,) ascending positive
+    modes: np.ndarray                # (n_free, k), K-normalised
+    residuals: np.ndarray            # (k,)
+    cluster_continues: bool = False
+    method: str = "arpack"
+    notes: list = field(default_factory=list)
+
+
+def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 4,
+                   method: str = "auto", v0: np.ndarray | None = None,
+                   source: str = "<model>", case: str = "") -> EigenResult:
+    """Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs."""
+    n = Kff.shape[0]
+    k = int(k)
+    kk = k + 1                               # one extra to see whether a cluster continues
+    if method == "auto":
+        method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "arpack"
+    if method == "dense" or kk + 2 >= n:
+        mu, vec = sla.eigh(-Gff.toarray(), Kff.toarray())
+        order = np.argsort(mu)[::-1]
+        mu, vec = mu[order], vec[:, order]
+        method = "dense"
+    elif method in ("arpack", "sparse"):
+        op = spla.LinearOperator((n, n), matvec=factor.solve, dtype=float)
+        ncv = min(n, max(2 * kk + 1, kk + 20))
+        start = None if v0 is None else np.asarray(v0, float)
+        if start is not None and start.ndim == 2:
+            start = start.sum(axis=1)
+        try:
+            mu, vec = spla.eigsh(-Gff, k=kk, M=Kff, Minv=op, which="LA", ncv=ncv, tol=1e-12,
+                                 v0=start, maxiter=max(1000, 20 * n))
+        except spla.ArpackNoConvergence as exc:
+            raise SolverError(f"case '{case}': the eigensolver did not converge "
+                              f"({len(exc.eigenvalues)} of {kk} modes)", source=source) from None
+        order = np.argsort(mu)[::-1]
+        mu, vec = mu[order], vec[:, order]
+        method = "arpack"
+    else:
+        raise ValueError(f"unknown eigen method {method!r}")
+
+    mu_max = mu.max() if mu.size else 0.0
+    pos = mu > max(mu_max, 0.0) * 1e-9
+    if mu_max <= 0 or not pos.any():
+        return EigenResult(np.empty(0), np.empty((n, 0)), np.empty(0), False, method)
+    mu, vec = mu[pos], vec[:, pos]
+    lam = 1.0 / mu
+    cluster = bool(len(lam) > k and abs(lam[k] - lam[k - 1]) <= 1e-6 * abs(lam[k - 1]))
+    lam, vec = lam[:k], vec[:, :k]
+    Kv = Kff @ vec
+    res = np.linalg.norm(Kv + lam * (Gff @ vec), axis=0) / np.maximum(np.linalg.norm(Kv, axis=0), 1e-300)
+    if (res > RESIDUAL_TOL).any():
+        i = int(np.argmax(res))
+        raise SolverError(f"case '{case}': mode {i + 1} failed its residual check "
+                          f"(||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g})",
+                          source=source)
+    return EigenResult(lam, vec, res, cluster, method)
