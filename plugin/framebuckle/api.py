@@ -41,7 +41,7 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     modes : number of load factors per case (default 4)
     subdivide : sub-elements per beam cell (default 4)
     planar : ``"auto"`` (default), ``True`` or ``False``
-    method : eigensolver: ``"auto"``, ``"dense"`` or ``"arpack"``
+    method : eigensolver: ``"auto"``, ``"dense"``, ``"arpack"`` or ``"block"``
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -54,8 +54,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     if pl not in (True, False, "auto"):
         raise InputError(f"[analysis] planar must be true, false or \"auto\", got {pl!r}", source=st.source)
     meth = method or st.get("analysis", "eigensolver", default="auto")
-    if meth not in ("auto", "dense", "arpack", "sparse"):
-        raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack)", source=st.source)
+    if meth not in ("auto", "dense", "arpack", "sparse", "block"):
+        raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack, block)", source=st.source)
 
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
     return run(im, k, m, pl, meth, progress=progress)
@@ -86,7 +86,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                     method=er.method))
             continue
-        v0 = er.modes[:, 0]
+        v0 = er.modes                       # warm start of the next case: neighbouring combinations
         full = np.zeros((fine.n_dofs, er.modes.shape[1]))
         full[free] = er.modes
         notes = []

@@ -30,6 +30,8 @@ PIVOT_TOL = 1e-11
 RESIDUAL_TOL = 1e-6
 #: models with at most this many free DOFs are solved densely by default
 DENSE_LIMIT = 240
+#: Krylov residual ||A x - theta x||_K / theta at which the block eigensolver stops
+BLOCK_TOL = 1e-10
 
 
 @dataclass(frozen=True)
@@ -192,12 +194,19 @@ class EigenResult:
 def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 4,
                    method: str = "auto", v0: np.ndarray | None = None,
                    source: str = "<model>", case: str = "") -> EigenResult:
-    """Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs."""
+    """Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs.
+
+    ``method``: ``"dense"`` (scipy.linalg.eigh), ``"arpack"`` (one vector at a time),
+    ``"block"`` (block Krylov-Schur, :mod:`framebuckle.eigen`: one solve per block of
+    ``k + 1`` vectors, every mode of a repeated load factor found) or ``"auto"``
+    (dense for small models, else block).  ``v0``: start vector(s), e.g. the previous
+    load case's modes (a 1D vector or an (n, j) block).
+    """
     n = Kff.shape[0]
     k = int(k)
     kk = k + 1                               # one extra to see whether a cluster continues
     if method == "auto":
-        method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "arpack"
+        method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "block"
     if method == "dense" or kk + 2 >= n:
         mu, vec = sla.eigh(-Gff.toarray(), Kff.toarray())
         order = np.argsort(mu)[::-1]
@@ -218,6 +227,15 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
         order = np.argsort(mu)[::-1]
         mu, vec = mu[order], vec[:, order]
         method = "arpack"
+    elif method == "block":
+        from .eigen import block_krylov_schur
+        br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL)
+        if not br.converged:
+            bad = int(np.argmax(br.residuals >= BLOCK_TOL))
+            raise SolverError(f"case '{case}': the block eigensolver did not converge in {br.cycles} "
+                              f"restarts (mode {bad + 1} of {kk}: residual {br.residuals[bad]:.1e})",
+                              source=source)
+        mu, vec = br.theta, br.vectors
     else:
         raise ValueError(f"unknown eigen method {method!r}")
 
