@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from pathlib import Path
 
 import numpy as np
@@ -57,11 +58,21 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     if meth not in ("auto", "dense", "arpack", "sparse", "block"):
         raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack, block)", source=st.source)
 
+    t0 = time.perf_counter()
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
-    return run(im, k, m, pl, meth, progress=progress)
+    t_read = time.perf_counter() - t0
+    res = run(im, k, m, pl, meth, progress=progress)
+    res.timings["read"] = t_read
+    return res
 
 
 def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result:
+    """``progress(name)`` is called after each case; if it has a ``stage`` attribute,
+    ``progress.stage(text)`` is called before each stage."""
+    stage = getattr(progress, "stage", None) or (lambda text: None)
+    timings = {}
+    t = time.perf_counter()
+    stage("assembling")
     ref = _subdivide(im.frame, m)
     fine = ref.frame
     asm = Assembler.build(fine)
@@ -70,11 +81,18 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
     n_in = im.frame.n_nodes
     coarse_cell = _interior_cell(ref, im)
     check_supported(fine, cons, n_in, im.source)
+    timings["assembly"] = time.perf_counter() - t
+    t = time.perf_counter()
+    stage(f"factorizing ({len(cons.free)} free DOFs)")
     factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
+    timings["factorization"] = time.perf_counter() - t
+    timings["cases"] = []
     free = cons.free
     cases = []
     v0 = None
-    for case in im.cases:
+    for icase, case in enumerate(im.cases):
+        t = time.perf_counter()
+        stage(f"case {icase + 1}/{len(im.cases)} '{case.name}': eigensolution")
         axial = ref.fine_axial(case.axial)
         scale = np.abs(axial).max() if axial.size else 0.0
         if not (axial < -1e-12 * max(scale, 1e-300)).any():
@@ -98,11 +116,14 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
         notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
         cases.append(CaseResult(case.name, "ok", er.load_factors, normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max())),
                                 er.residuals, er.cluster_continues, er.method, notes))
+        timings["cases"].append(time.perf_counter() - t)
         if progress:
             progress(case.name)
     notes = list(im.notes) + list(cons.notes)
     settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method}
-    return Result(im, ref, cons, cases, notes, settings)
+    res = Result(im, ref, cons, cases, notes, settings)
+    res.timings.update(timings)
+    return res
 
 
 def _interior_cell(ref, im):

@@ -47,6 +47,7 @@ class Result:
     cases: list
     notes: list
     settings: dict
+    timings: dict = field(default_factory=dict)   # seconds per stage (read, assembly, ...)
 
     @property
     def model(self):
