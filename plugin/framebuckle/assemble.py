@@ -30,19 +30,42 @@ class Assembler:
 
     @classmethod
     def build(cls, frame: Frame) -> "Assembler":
+        r"""Element matrices and the CSR pattern.
+
+        The pattern is found on node pairs (``4 e`` keys, not ``144 e``): every
+        element couples the full 6 x 6 DOF blocks of its node pairs, so DOF row
+        ``6 r + i`` holds, for each node ``c`` coupled to node ``r`` (ascending),
+        the columns ``6 c .. 6 c + 5``.  Entry ``(6r+i, 6c+j)`` of node pair ``u``
+        (the ``u``-th unique pair, row-major) sits at
+        ``36 p_r + 6 i d_r + 6 (u - p_r) + j`` with ``p_r`` the node-row pointer and
+        ``d_r`` the number of nodes coupled to ``r``.
+        """
         Ke, Ge, T = element_matrices(frame)
-        dofs = element_dofs(frame)
         n = frame.n_dofs
-        rows = np.broadcast_to(dofs[:, :, None], (len(dofs), 12, 12)).reshape(-1)
-        cols = np.broadcast_to(dofs[:, None, :], (len(dofs), 12, 12)).reshape(-1)
-        key = rows.astype(np.int64) * n + cols
-        uniq, slot = np.unique(key, return_inverse=True)
-        r = uniq // n
-        c = uniq % n
+        nn = frame.n_nodes
+        el = frame.elements.astype(np.int64)
+        a, b = el[:, 0], el[:, 1]
+        pr = np.stack([a, a, b, b], axis=1)            # pair (P, Q) at 2P + Q
+        pc = np.stack([a, b, a, b], axis=1)
+        uniq, inv = np.unique((pr * nn + pc).reshape(-1), return_inverse=True)
+        r = uniq // nn
+        c = uniq % nn
+        nptr = np.zeros(nn + 1, np.int64)
+        np.cumsum(np.bincount(r, minlength=nn), out=nptr[1:])
+        deg = np.diff(nptr)
+        base = 36 * nptr[r] + 6 * (np.arange(len(uniq)) - nptr[r])   # (u,) entry (6r, 6c)
+        stride = 6 * deg[r]                                            # (u,) from row i to i+1
+        six = np.arange(6)
+        pos = base[:, None, None] + six[None, :, None] * stride[:, None, None] + six[None, None, :]
+        indices = np.empty(36 * len(uniq), np.int64)
+        indices[pos.reshape(-1)] = (6 * c[:, None, None] + six[None, None, :] + 0 * six[None, :, None]).reshape(-1)
         indptr = np.zeros(n + 1, np.int64)
-        np.cumsum(np.bincount(r, minlength=n), out=indptr[1:])
-        idx_dtype = np.int32 if len(uniq) < 2**31 and n < 2**31 else np.int64
-        return cls(frame, Ke, Ge, T, indptr.astype(idx_dtype), c.astype(idx_dtype),
+        np.cumsum(np.repeat(6 * deg, 6), out=indptr[1:])
+        u = inv.reshape(-1, 2, 2)                                      # (e, P, Q)
+        slot = (base[u][:, :, None, :, None] + six[None, None, :, None, None] * stride[u][:, :, None, :, None]
+                + six[None, None, None, None, :])                      # (e, P, i, Q, j)
+        idx_dtype = np.int32 if len(indices) < 2**31 and n < 2**31 else np.int64
+        return cls(frame, Ke, Ge, T, indptr.astype(idx_dtype), indices.astype(idx_dtype),
                    slot.reshape(-1), n)
 
     def _csr(self, values: np.ndarray) -> sp.csr_matrix:

@@ -149,9 +149,15 @@ def element_matrices(frame: Frame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         b = frame.bar
         Kl[b] = bar_elastic_local(L[b], frame.E[b], frame.A[b])
         Gl[b] = bar_geometric_local(L[b])
-    Ke = np.einsum("eji,ejk,ekl->eil", T, Kl, T, optimize=True)
-    Ge = np.einsum("eji,ejk,ekl->eil", T, Gl, T, optimize=True)
+    Ke = _rotate(T, Kl)
+    Ge = _rotate(T, Gl)
     return Ke, Ge, T
+
+
+def _rotate(T: np.ndarray, M: np.ndarray) -> np.ndarray:
+    """``T^T M T`` for every element: two batched matrix products (BLAS per element;
+    measured faster than the three-operand einsum and identical to it)."""
+    return np.matmul(np.matmul(T.transpose(0, 2, 1), M), T)
 
 
 def element_dofs(frame: Frame) -> np.ndarray:
