@@ -22,10 +22,10 @@ import meshio
 import numpy as np
 
 E, G = 210e9, 81e9
-# name: A [m2], Iy (strong) [m4], Iz (weak) [m4], J [m4]   (from memory, rounded)
-HEB300 = (149e-4, 25170e-8, 8563e-8, 185e-8)
-IPE400 = (84.5e-4, 23130e-8, 1318e-8, 51.1e-8)
-CHS140 = (26.4e-4, 589e-8, 589e-8, 1178e-8)
+# name: A [m2], Iy (strong) [m4], Iz (weak) [m4], J [m4], Iw [m6]   (from memory, rounded)
+HEB300 = (149e-4, 25170e-8, 8563e-8, 185e-8, 1688e-9)
+IPE400 = (84.5e-4, 23130e-8, 1318e-8, 51.1e-8, 490e-9)
+CHS140 = (26.4e-4, 589e-8, 589e-8, 1178e-8, 0.0)
 BAY, STOREY, FLOOR_LOAD = 6.0, 3.5, 8e3          # m, m, N/m2
 
 
@@ -80,7 +80,7 @@ def building(nx: int, ny: int, nz: int) -> meshio.Mesh:
         "axial_force.gravity": [np.r_[n1, zeros]],
         "axial_force.gravity_half": [np.r_[n2, zeros]],
         "E": [np.full(ne, E)], "G": [np.full(ne, G)],
-        "A": [sec[:, 0]], "Iy": [sec[:, 1]], "Iz": [sec[:, 2]], "J": [sec[:, 3]],
+        "A": [sec[:, 0]], "Iy": [sec[:, 1]], "Iz": [sec[:, 2]], "J": [sec[:, 3]], "Iw": [sec[:, 4]],
         "orientation": [orient], "bar": [bar],
     }
     return meshio.Mesh(pts, [("line", lines)], point_data={"restraint": restraint}, cell_data=cd)

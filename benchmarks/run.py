@@ -1,0 +1,116 @@
+"""Benchmark driver (run by hand, not in CI).
+
+For each size (DOFs after the default sub-division) it writes a building frame
+(``building.py``), then runs, each as its own process and one at a time:
+
+* the tool: ``python -m framebuckle solve FILE --modes 10 --timings`` (2 load cases);
+* the floor (``floor.py``) with scipy SuperLU, and with PARDISO when pypardiso is installed;
+* the hand-written baseline (``baseline.py``) when ``--baseline`` is given.
+
+Wall time and peak resident memory of each process (``os.wait4``) are appended as
+JSON lines to ``benchmarks/results.jsonl`` with the machine and its load.
+
+Usage: python benchmarks/run.py 1e4 3e4 1e5 [--baseline] [--data DIR]
+"""
+
+import argparse
+import json
+import os
+import platform
+import re
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+PLUGIN = HERE.parent / "plugin"
+sys.path.insert(0, str(HERE))
+sys.path.insert(0, str(PLUGIN))
+
+
+def machine():
+    cpu = ""
+    try:
+        for line in open("/proc/cpuinfo"):
+            if line.startswith("model name"):
+                cpu = line.split(":", 1)[1].strip()
+                break
+    except OSError:
+        pass
+    mem = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
+    return {"nproc": os.cpu_count(), "memory_GiB": round(mem, 1), "cpu": cpu or platform.processor(),
+            "python": platform.python_version()}
+
+
+def measure(cmd, timeout=None):
+    env = dict(os.environ, PYTHONPATH=str(PLUGIN) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    t = time.perf_counter()
+    load0 = os.getloadavg()[0]
+    with tempfile.TemporaryFile("w+") as out:
+        p = subprocess.Popen(cmd, stdout=out, stderr=subprocess.STDOUT, env=env, text=True)
+        try:
+            _, status, ru = os.wait4(p.pid, 0)
+        except KeyboardInterrupt:
+            p.kill()
+            raise
+        wall = time.perf_counter() - t
+        out.seek(0)
+        text = out.read()
+    return {"cmd": " ".join(map(str, cmd)), "wall_s": wall, "cpu_s": ru.ru_utime + ru.ru_stime,
+            "peak_MiB": ru.ru_maxrss / 1024, "status": status, "load_before": load0,
+            "load_after": os.getloadavg()[0], "output": text[-3000:]}
+
+
+def main():
+    ap = argparse.ArgumentParser()
+    ap.add_argument("sizes", nargs="+", type=float)
+    ap.add_argument("--baseline", action="store_true")
+    ap.add_argument("--baseline-limit", type=float, default=1200.0)
+    ap.add_argument("--data", default=str(HERE / "_data"))
+    ap.add_argument("--no-pardiso", action="store_true")
+    args = ap.parse_args()
+    import building
+    data = Path(args.data)
+    data.mkdir(parents=True, exist_ok=True)
+    info = machine()
+    res_file = HERE / "results.jsonl"
+    for size in args.sizes:
+        f = data / f"building_{size:.0e}.vtu"
+        if not f.exists():
+            building.write(size, str(f))
+        rec = {"size": size, "file": str(f), "machine": info, "date": time.strftime("%Y-%m-%d %H:%M")}
+        with tempfile.TemporaryDirectory() as out:
+            rec["tool"] = measure([sys.executable, "-m", "framebuckle", "solve", str(f), "--modes", "10",
+                                   "--out", out, "--force", "--timings"])
+        m = re.search(r"timings \[s\]: read ([\d.]+), assembly ([\d.]+), factorization ([\d.]+), "
+                      r"cases \[([\d., ]*)\], write ([\d.]+)", rec["tool"]["output"])
+        if m:
+            rec["stages"] = {"read": float(m[1]), "assembly": float(m[2]), "factorization": float(m[3]),
+                             "cases": [float(x) for x in m[4].split(",") if x.strip()], "write": float(m[5])}
+        d = re.search(r"(\d+) DOFs after sub-division \((\d+) free\)", rec["tool"]["output"])
+        if d:
+            rec["dofs"], rec["free"] = int(d[1]), int(d[2])
+        rec["floor_splu"] = measure([sys.executable, str(HERE / "floor.py"), str(f), "splu"])
+        try:
+            import pypardiso  # noqa: F401
+            have_pardiso = not args.no_pardiso
+        except ImportError:
+            have_pardiso = False
+        if have_pardiso:
+            rec["floor_pardiso"] = measure([sys.executable, str(HERE / "floor.py"), str(f), "pardiso"])
+        if args.baseline:
+            rec["baseline"] = measure([sys.executable, str(HERE / "baseline.py"), str(f), "10",
+                                       str(args.baseline_limit)])
+        with open(res_file, "a") as fh:
+            fh.write(json.dumps(rec) + "\n")
+        floor = min(rec[k]["wall_s"] for k in ("floor_splu", "floor_pardiso") if k in rec)
+        st = rec.get("stages", {})
+        print(f"{size:.0e}: dofs {rec.get('dofs')} tool {rec['tool']['wall_s']:.1f} s "
+              f"({rec['tool']['peak_MiB']:.0f} MiB) floor {floor:.1f} s -> {rec['tool']['wall_s'] / floor:.2f} x; "
+              f"stages {st}", flush=True)
+
+
+if __name__ == "__main__":
+    main()
