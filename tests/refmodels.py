@@ -94,3 +94,44 @@ def euler_load(EI: float, L: float, K: float) -> float:
 def rel(computed: float, reference: float) -> float:
     """Signed relative error of a computed value against its reference."""
     return (computed - reference) / reference
+
+
+def frame3d(orientation_seed: int = 3) -> dict:
+    """A small unsymmetric two-storey 3D frame with a bar brace (keyword arguments of line_mesh).
+
+    Columns in compression, beams partly in tension, one diagonal bar; fixed bases only
+    (supports that stay the same under any rigid rotation).  Orientation vectors are
+    given explicitly and are not along global axes.
+    """
+    xs, ys, hs = [0.0, 4.0, 9.0], [0.0, 5.0], [0.0, 3.5, 6.5]
+    pts, idx = [], {}
+    for s, z in enumerate(hs):
+        for j, y in enumerate(ys):
+            for i, x in enumerate(xs):
+                idx[i, j, s] = len(pts)
+                pts.append([x, y + 0.3 * i, z])
+    cells, axial, bar = [], [], []
+    for (i, j, s), p in idx.items():
+        if s > 0:
+            cells.append([idx[i, j, s - 1], p])
+            axial.append(-(3 - s) * (80e3 + 15e3 * i + 9e3 * j))
+            bar.append(0)
+            if i + 1 < len(xs):
+                cells.append([p, idx[i + 1, j, s]])
+                axial.append(4e3 * (i + 1) - 6e3 * j)
+                bar.append(0)
+            if j + 1 < len(ys):
+                cells.append([p, idx[i, j + 1, s]])
+                axial.append(-2e3 * (i + s))
+                bar.append(0)
+    cells.append([idx[0, 0, 0], idx[1, 0, 1]])          # a diagonal brace (bar) in compression
+    axial.append(-12e3)
+    bar.append(1)
+    rng = np.random.default_rng(orientation_seed)
+    cells = np.array(cells)
+    d = np.asarray(pts)[cells[:, 1]] - np.asarray(pts)[cells[:, 0]]
+    o = np.cross(d, rng.normal(size=(len(cells), 3)))    # some vector perpendicular to each member
+    restraint = np.zeros((len(pts), 6))
+    restraint[[idx[i, j, 0] for i in range(len(xs)) for j in range(len(ys))]] = 1
+    return dict(points=np.array(pts), cells=cells, axial=np.array(axial), restraint=restraint,
+                orientation=o, bar=np.array(bar), Iy=5e-6, Iz=1.4e-5, J=3e-7)
