@@ -27,10 +27,11 @@ PIN = (1, 1, 1, 0, 0, 0)
 
 
 def line_mesh(points, cells, *, axial, restraint, E=E, G=G, A=A, Iy=I, Iz=I, J=J, Ip=None,
-              orientation=None, bar=None, cases=None) -> meshio.Mesh:
+              orientation=None, bar=None, cases=None, extra=None) -> meshio.Mesh:
     """A meshio line mesh; scalars are broadcast to one value per cell.
 
-    ``axial`` is one case (tension positive); ``cases`` a dict ``name -> axial`` of several.
+    ``axial`` is one case (tension positive); ``cases`` a dict ``name -> axial`` of several;
+    ``extra`` more cell fields (``name -> scalar or per-cell values``).
     """
     points = np.asarray(points, float)
     cells = np.asarray(cells, np.int64).reshape(-1, 2)
@@ -54,6 +55,8 @@ def line_mesh(points, cells, *, axial, restraint, E=E, G=G, A=A, Iy=I, Iz=I, J=J
         cd["orientation"] = [np.broadcast_to(o, (ne, 3)).copy()]
     if bar is not None:
         cd["bar"] = per_cell(np.asarray(bar, float))
+    for name, v in (extra or {}).items():
+        cd[name] = per_cell(v)
     r = np.asarray(restraint, float)
     return meshio.Mesh(points, [("line", cells)], point_data={"restraint": r}, cell_data=cd)
 
