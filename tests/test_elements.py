@@ -9,6 +9,8 @@ References
   ``K = int EI phi''^T phi'' dx`` and ``Kg = P int phi'^T phi' dx`` with the cubic
   Hermite shape functions (same text, ch. 15); here sympy integrates them
   independently of the package (sympy as the general-purpose reference library).
+* Section and chapter numbers are from memory; the matrices themselves are
+  re-derived here by sympy.
 """
 
 from functools import lru_cache

@@ -8,6 +8,7 @@ References
   sec. 5.3 (torsional buckling of a doubly symmetric column whose ends are held
   against twist and free to warp: P = (G J + pi^2 E Iw / L^2) A / Ip, so
   P = G J A / Ip without warping stiffness).
+  Section numbers are from memory; the formulas are the classical ones.
 """
 
 import math
