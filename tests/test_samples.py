@@ -95,8 +95,7 @@ def test_committed_forces_are_in_equilibrium(scenarios, name):
     # Joint equilibrium of the member end forces recovered from the committed displacements
     # with the applied loads, and overall equilibrium of reactions and loads (force and moment);
     # the committed axial forces are those end forces' axial parts (common practice of matrix
-    # structural analysis, e.g. McGuire, Gallagher & Ziemian 2000, Matrix Structural Analysis,
-    # ch. 2: equilibrium of joints and of the whole structure).
+    # structural analysis: equilibrium of every joint and of the whole structure).
     sc = scenarios[name]
     fr = sc.frame()
     asm = Assembler.build(fr)

@@ -31,7 +31,8 @@ FREE = [0] * 6
 
 
 def test_cantilever_tip_load():
-    # Gere & Goodno 2009, Mechanics of Materials, 7th ed., App. G (cantilever, end load):
+    # Gere & Goodno 2009, Mechanics of Materials, 7th ed., table of beam deflections (appendix;
+    # its letter from memory), cantilever with end load:
     # tip deflection P L^3 / (3 E I), tip rotation P L^2 / (2 E I), fixed-end moment P L.
     L, P = 4.0, 12e3
     fr = line_frame(L, 3, (FIXED, FREE))
@@ -57,7 +58,8 @@ def test_cantilever_tip_load():
 
 @pytest.mark.parametrize("cells", [2, 4, 6])
 def test_fixed_fixed_beam_udl(cells):
-    # Young & Budynas 2002, Roark's Formulas for Stress and Strain, 7th ed., Table 8.1
+    # Young & Budynas 2002, Roark's Formulas for Stress and Strain, 7th ed., Table 8.1 (table
+    # number from memory)
     # (both ends fixed, uniform load): midspan deflection w L^4 / (384 E I),
     # end moments w L^2 / 12, midspan moment w L^2 / 24.
     L, w = 9.0, 7.5e3
@@ -128,7 +130,8 @@ def pratt_truss(a=3.0, h=2.5, P=40e3):
 
 
 def test_determinate_truss_method_of_joints():
-    # Method of joints and sections, Hibbeler, Structural Analysis (8th ed. 2012), ch. 3:
+    # Method of joints and sections, Hibbeler, Structural Analysis (8th ed. 2012), ch. 3 (chapter
+    # number from memory); the closed forms below are worked out by hand for this truss:
     # reactions 1.5 P; bottom chord 1.5 P a / h (tension); top chord 2 P a / h (compression);
     # end diagonals 1.5 P d / h (compression); side verticals P (tension); middle vertical 0;
     # interior diagonals 0.5 P d / h (tension), d = sqrt(a^2 + h^2).
