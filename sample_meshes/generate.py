@@ -50,7 +50,7 @@ sys.path.insert(0, str(HERE.parent / "plugin"))
 import meshio  # noqa: E402
 
 from framebuckle.model import Frame, make_frame  # noqa: E402
-from framebuckle.static import STANDARD_GRAVITY, StaticResult, self_weight, solve_static  # noqa: E402
+from framebuckle.static import self_weight, solve_static  # noqa: E402
 
 GAMMA_G, GAMMA_Q, PSI0_WIND = 1.35, 1.5, 0.6
 
@@ -96,7 +96,7 @@ def chs(d, t):
 
 
 def rectangle(h, b):
-    """Solid rectangle h x b in mm (h >= b); torsion constant by the thin-strip series."""
+    """Solid rectangle h x b in mm (h >= b); the usual approximate torsion constant."""
     h, b = h / 1000, b / 1000
     J = h * b ** 3 * (1 / 3 - 0.21 * b / h * (1 - b ** 4 / (12 * h ** 4)))
     return {"A": h * b, "Iy": b * h ** 3 / 12, "Iz": h * b ** 3 / 12, "J": J, "Iw": 0.0}
@@ -445,7 +445,7 @@ def cell_fields(sc: Scenario, results: dict) -> dict:
     return f
 
 
-def point_fields(results: dict, plain: bool = False) -> dict:
+def point_fields(results: dict) -> dict:
     f = {}
     for name, res in results.items():
         u = np.ascontiguousarray(res.displacements[:, :3])
@@ -474,7 +474,7 @@ def _cwd(path: Path):
 
 def write_xdmf(sc: Scenario, results: dict, path: Path):
     """XDMF time series: step k (time k + 1) holds load case k as plain field names."""
-    const = {k: v for k, v in cell_fields(sc, {}).items()}
+    const = cell_fields(sc, {})
     # meshio writes the .h5 file into the current folder: write from the target folder
     with _cwd(path.parent), meshio.xdmf.TimeSeriesWriter(path.name) as w:
         w.write_points_cells(sc.nodes, [("line", sc.cells)])

@@ -79,7 +79,7 @@ def test_same_model_same_load_factors_in_every_format(solved, a, b):
 def test_xdmf_steps_are_the_cases(solved):
     # each time step of the XDMF series is one load case, in the order of the VTU's cases
     names = [c["name"] for c in solved["portal_xdmf"][0]["cases"]]
-    assert names == ["t=1", "t=2"]
+    assert len(names) == 2 and names[0].startswith("t=1") and names[1].startswith("t=2")
     assert [c["name"] for c in solved["portal_vtu"][0]["cases"]] == ["gravity", "gravity_wind"]
 
 
