@@ -215,3 +215,34 @@ def test_mechanism_is_refused():
     r[0, 0] = False                            # no horizontal restraint: free to slide
     with pytest.raises(ModelError, match="mechanism"):
         solve_static(fr.replace(restraint=r), loads)
+
+
+
+def test_mechanism_message_names_the_free_dofs():
+    # Two-storey tower: four tubular legs pinned at their bases, every other member a bar.
+    # The structure is stable except that each leg can spin about its own axis, so the only
+    # free DOFs are twists (rz) of the legs (common practice). The error must name those
+    # DOFs and no translations: SuperLU factors Pr A Pc = L U, so U[j, j] belongs to column
+    # argsort(perm_c)[j] (scipy documentation of scipy.sparse.linalg.SuperLU).
+    corners = [(1, 1), (-1, 1), (-1, -1), (1, -1)]
+    nodes = np.array([(x, y, 3.0 * k) for k in range(3) for (x, y) in corners], float)
+    el, bar = [], []
+    for k in range(2):
+        for i in range(4):
+            j = (i + 1) % 4
+            el += [(4 * k + i, 4 * k + 4 + i), (4 * k + i, 4 * k + 4 + j), (4 * k + j, 4 * k + 4 + i)]
+            bar += [0, 1, 1]
+    for k in (1, 2):
+        el += [(4 * k + i, 4 * k + (i + 1) % 4) for i in range(4)] + [(4 * k, 4 * k + 2)]
+        bar += [1] * 5
+    r = np.zeros((len(nodes), 6), bool)
+    r[:4, :3] = True
+    fr = make_frame(nodes, np.array(el), E=E, G=G, A=A, Iy=IY, Iz=IY, J=2 * IY, bar=bar, restraint=r)
+    loads = np.zeros((len(nodes), 6))
+    loads[-4:, 2] = -1e4
+    with pytest.raises(ModelError) as exc:
+        solve_static(fr, loads)
+    msg = str(exc.value)
+    assert "(rz)" in msg and "rotate about their own axis" in msg
+    for comp in ("ux", "uy", "uz", "rx", "ry"):
+        assert comp not in msg.split("Probable cause")[0]
