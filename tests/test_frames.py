@@ -129,8 +129,8 @@ def test_planar_switched_off_refuses_the_mechanism_naming_free_dofs():
         fb.solve(portal_mesh(FIXED_XZ), planar=False)
     msg = str(exc.value)
     assert "Free DOFs" in msg
-    named = {d.strip() for group in re.findall(r"\(([a-z, ]+)\)", msg.split("Free DOFs")[1].split("Probable cause")[0])
-             for d in group.split(",")}
+    listed = msg.split("Free DOFs")[1].split("Probable cause")[0]
+    named = {d.strip() for group in re.findall(r"\(([a-z, ]+)\)", listed) for d in group.split(",")}
     # the mechanisms are out of the plane (XZ): only uy, rx, rz may be named, and some are
     assert named and named <= {"uy", "rx", "rz"}, msg
 
