@@ -88,6 +88,31 @@ def test_arpack_finds_every_copy_of_repeated_load_factors():
         np.testing.assert_allclose(res5.case("all").load_factors, ref[:5], rtol=1e-8)
 
 
+def test_arpack_equals_dense_on_symmetric_frame_with_repeated_sway_modes():
+    """A square-plan 3D frame: sway in X and in Y are the same mode turned by 90 degrees."""
+    n, bay, h = 2, 5.0, 3.0
+    idx = lambda i, j, s: (s * (n + 1) + j) * (n + 1) + i
+    pts = [[i * bay, j * bay, s * h] for s in range(3) for j in range(n + 1) for i in range(n + 1)]
+    cells, axial = [], []
+    for s in range(2):
+        for j in range(n + 1):
+            for i in range(n + 1):
+                cells.append([idx(i, j, s), idx(i, j, s + 1)])
+                axial.append(-1e5 * (2 - s))
+    for s in (1, 2):
+        for j in range(n + 1):
+            for i in range(n):
+                cells += [[idx(i, j, s), idx(i + 1, j, s)], [idx(j, i, s), idx(j, i + 1, s)]]
+                axial += [0.0, 0.0]
+    r = np.zeros((len(pts), 6))
+    r[: (n + 1) ** 2] = 1
+    mesh = line_mesh(pts, cells, axial=np.array(axial), restraint=r)
+    lam = fb.solve(mesh, modes=6, method="arpack").cases[0].load_factors
+    ref = dense_load_factors(mesh, k=6)                 # scipy.linalg.eigh (LAPACK)
+    assert abs(ref[1] / ref[0] - 1) < 1e-10             # the pair repeats
+    np.testing.assert_allclose(lam, ref, rtol=1e-8)
+
+
 # ------------------------------------------------------------------ invariances
 
 
