@@ -40,7 +40,7 @@ def _common(s):
     s.add_argument("input", help="mesh file (VTU, XDMF, Gmsh MSH, or any format meshio reads)")
     s.add_argument("--study", help="study file (TOML)")
     s.add_argument("--modes", type=_positive_int, help="load factors per case (default 4)")
-    s.add_argument("--subdivide", type=_positive_int, help="sub-elements per beam cell (default 4)")
+    s.add_argument("--subdivide", type=_positive_int, help="sub-elements per beam cell (default 8)")
     s.add_argument("--out", default="framebuckle_out", help="output folder (default ./framebuckle_out)")
     s.add_argument("--force", action="store_true", help="replace existing outputs")
 
