@@ -139,7 +139,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
             N, _ = member_forces(frame, members, axial)
             for m in range(members.n):
                 rows.append(_row(c.name, None, None, "", members, m, cells, N[m],
-                                 "tension" if N[m] >= 0 else "negligible"))
+                                 "tension" if N[m] > 0 else "negligible"))
             entry.update({"modes": [], "governing_members": [], "stiffen_first": []})
             table.append((c.name, None, "-", _verdict_short(verdicts), "-", "-", ok))
             continue
@@ -338,7 +338,8 @@ def write_check(result, report: CheckReport, out_dir, force: bool = False) -> di
     summary = report.summary
     if report.imperfection_mode is not None:
         ci, mi, s = report.imperfection_mode
-        igrid, note = imperfect_grid(result, ci, mi, s)
+        igrid, note, moved = imperfect_grid(result, ci, mi, s)
+        report.imperfection["largest_translation_at_input_points"] = moved
         if note:
             report.imperfection["note"] = note
     write_grid(grid, paths["modes"], True, protect)

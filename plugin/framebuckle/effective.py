@@ -15,8 +15,8 @@ The axis the mode bends the member about is the one with the larger bending
 strain energy in the member (``y``: bending in the local x-z plane, ``E Iy``).
 
 Members whose largest compression is at most :data:`NEGLIGIBLE` times the
-largest compression of the case are ``negligible``; members without
-compression are ``tension``; bars are ``bar`` (N_cr only: the analysis has no
+largest compression of the case (or carry no force) are ``negligible``;
+members in tension throughout are ``tension``; bars are ``bar`` (N_cr only: the analysis has no
 bending of bars, check them as pin-ended members).  Such members get NaN,
 not infinite lengths.
 """
@@ -72,7 +72,8 @@ def effective_lengths(frame: Frame, members: Members, axial: np.ndarray, alpha: 
     comp = N < 0
     small = comp & (-N <= negligible * cmax)
     bar = frame.bar[g]
-    status = np.where(~comp, "tension", np.where(small, "negligible", np.where(bar, "bar", "compression")))
+    status = np.where(N > 0, "tension", np.where(~comp | small, "negligible",
+                                                 np.where(bar, "bar", "compression")))
     use = comp & ~small
     Ncr = np.where(use, alpha * np.abs(N), np.nan)
     beam = use & ~bar

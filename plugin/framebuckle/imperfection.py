@@ -167,7 +167,8 @@ def scale_for(result, members, case_index: int, mode_index: int, eff, share, set
 
 
 def imperfect_grid(result, case_index: int, mode_index: int, scale: float):
-    """The input mesh (PyVista) with points moved by ``scale * mode``; and a note if the bow is lost."""
+    """The input mesh (PyVista) with points moved by ``scale * mode``, a note if the bow is lost,
+    and the largest translation applied to an input point."""
     import copy
 
     import pyvista as pv
@@ -185,4 +186,4 @@ def imperfect_grid(result, case_index: int, mode_index: int, scale: float):
         note = (f"the largest translation of the mode at the input points is {at_input / full:.0%} of its "
                 f"largest value: the bow lies inside cells, which the input mesh cannot show; "
                 f"sub-divide the members of the input mesh to carry the imperfection")
-    return grid, note
+    return grid, note, float(scale * at_input)
