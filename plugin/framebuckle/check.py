@@ -153,7 +153,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
         modes_out = []
         for i in range(k):
             lam = float(c.load_factors[i])
-            eff = effective_lengths(frame, members, axial, lam, part.bend_y[i], part.bend_z[i], fy, neg)
+            eff = effective_lengths(frame, members, axial, lam, part.bend_y[i], part.bend_z[i], fy, neg, result.constraints.planar_axis)
             rank = ranking(sens[i])
             rk = np.empty(members.n, np.int64)
             rk[rank] = np.arange(1, members.n + 1)
@@ -167,7 +167,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
                 "members_carrying": carrying[:20], "n_members_carrying": len(carrying),
                 "repeated": bool(rep[i]),
                 "stiffen_first": [{"member": int(members.label[j]), "d_alpha_d_scale": float(sens[i, j]),
-                                   "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 0],
+                                   "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 1e-9 * lam],
             })
             if i == 0:
                 _put_fields(fields, "" if single else f".{c.name}", im.cell_ids, members, eff,
@@ -248,7 +248,8 @@ def _imperfection(result, study, members, fy, first, mof, fine):
                              f"[imperfection] mode to force one)"}, None)
         mi = flex[0]
     eff = effective_lengths(result.model, members, axial, float(c.load_factors[mi]), part.bend_y[mi],
-                            part.bend_z[mi], fy, float(st.get("negligible_compression", NEGLIGIBLE)))
+                            part.bend_z[mi], fy, float(st.get("negligible_compression", NEGLIGIBLE)),
+                            result.constraints.planar_axis)
     info = scale_for(result, members, ci, mi, eff, part.share[mi], imp, fy, study.source)
     info["mode_type"] = part.kinds[mi]
     return info, (ci, mi, info["scale"])

@@ -27,8 +27,6 @@ These verdicts are elastic indicators, not resistances: see ``CAUTIONS``.
 
 from __future__ import annotations
 
-import math
-
 EN_CLAUSE_FIRST_ORDER = "EN 1993-1-1:2005 clause 5.2.1(3)"
 EN_CLAUSE_AMPLIFY = "EN 1993-1-1:2005 clause 5.2.2(5)-(6)"
 AISC_CLAUSE_B2 = "AISC 360-16 Appendix 8, Eqs. (A-8-6)-(A-8-8)"
@@ -124,6 +122,3 @@ def first_order_limit(settings: dict) -> float:
         return float(settings.get("en1993_plastic_limit", EN_PLASTIC))
     return float(settings.get("en1993_elastic_limit", EN_ELASTIC))
 
-
-def _finite(x):
-    return x is not None and math.isfinite(x)

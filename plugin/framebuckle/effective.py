@@ -18,7 +18,7 @@ Members whose largest compression is at most :data:`NEGLIGIBLE` times the
 largest compression of the case (or carry no force) are ``negligible``;
 members in tension throughout are ``tension``; bars are ``bar`` (N_cr only: the analysis has no
 bending of bars, check them as pin-ended members).  Such members get NaN,
-not infinite lengths.
+not infinite lengths.  In a planar analysis only the in-plane axis gets a length.
 """
 
 from __future__ import annotations
@@ -27,6 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .elements import local_axes
 from .members import Members
 from .model import Frame
 
@@ -65,8 +66,12 @@ def member_forces(frame: Frame, members: Members, axial: np.ndarray):
 
 def effective_lengths(frame: Frame, members: Members, axial: np.ndarray, alpha: float,
                       bend_y: np.ndarray, bend_z: np.ndarray, fy: np.ndarray | None = None,
-                      negligible: float = NEGLIGIBLE) -> EffectiveLengths:
-    """Effective lengths of all members for one mode (``bend_y``/``bend_z`` per member)."""
+                      negligible: float = NEGLIGIBLE, planar_axis: int | None = None) -> EffectiveLengths:
+    """Effective lengths of all members for one mode (``bend_y``/``bend_z`` per member).
+
+    In a planar analysis (``planar_axis`` = global axis normal to the plane) the length
+    about the member axis that bends out of the plane is NaN: that buckling was not analysed.
+    """
     N, g = member_forces(frame, members, axial)
     cmax = max(float(-np.min(axial)), 0.0)
     comp = N < 0
@@ -84,6 +89,13 @@ def effective_lengths(frame: Frame, members: Members, axial: np.ndarray, alpha: 
         rz = Lz / members.length
         lam = np.full(members.n, np.nan) if fy is None else np.sqrt(frame.A[g] * np.asarray(fy, float)[g] / Ncr)
     lam = np.where(use, lam, np.nan)
+    if planar_axis is not None:
+        R, _ = local_axes(frame)
+        y_in_plane_bending = np.abs(R[g, 1, planar_axis]) >= np.abs(R[g, 2, planar_axis])
+        Lz = np.where(y_in_plane_bending, np.nan, Lz)
+        Ly = np.where(y_in_plane_bending, Ly, np.nan)
+        ry = Ly / members.length
+        rz = Lz / members.length
     about_y = bend_y >= bend_z
     bent = (bend_y + bend_z) > 0
     axis = np.where(beam & bent, np.where(about_y, "y", "z"), "")

@@ -67,8 +67,9 @@ def e0_formula(lam: float, alpha: float, M_Rk: float, N_Rk: float, gamma_M1: flo
     return alpha * (lam - 0.2) * M_Rk / N_Rk * (1 - c * lam * lam / gamma_M1) / (1 - c * lam * lam)
 
 
-def end_moments(fine, mode: np.ndarray, axial: np.ndarray, alpha: float) -> tuple[np.ndarray, np.ndarray]:
-    r"""Largest |bending moment| of the mode at the ends of every sub-element, about local y and z.
+def end_moments(fine, mode: np.ndarray, axial: np.ndarray, alpha: float,
+                which: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    r"""Largest |bending moment| of the mode at the ends of sub-elements ``which``, about local y and z.
 
     The end forces of a sub-element in the buckled state are
     :math:`f_e = (K_e + \alpha N_e G_e) u_e` (local); their moment entries are
@@ -76,15 +77,14 @@ def end_moments(fine, mode: np.ndarray, axial: np.ndarray, alpha: float) -> tupl
     points, far more accurate than the Hermite curvature of the displacements
     (for a pinned column with 8 sub-elements: 3e-5 against 1.3e-2 relative error).
     """
-    from .elements import (bar_elastic_local, bar_geometric_local, beam_elastic_local,
-                           beam_geometric_local, element_dofs, transformation)
+    from .elements import beam_elastic_local, beam_geometric_local, element_dofs, transformation
+    which = np.flatnonzero(np.asarray(which) & ~fine.bar)
     R, L = local_axes(fine)
-    T = transformation(R)
-    u = np.einsum("eij,ej->ei", T, mode.reshape(-1)[element_dofs(fine)])
-    b = ~fine.bar
-    K = np.zeros((fine.n_elements, 12, 12))
-    K[b] = (beam_elastic_local(L[b], fine.E[b], fine.G[b], fine.A[b], fine.Iy[b], fine.Iz[b], fine.J[b])
-            + alpha * np.asarray(axial, float)[b, None, None] * beam_geometric_local(L[b], fine.A[b], fine.Ip[b]))
+    R, L = R[which], L[which]
+    u = np.einsum("eij,ej->ei", transformation(R), mode.reshape(-1)[element_dofs(fine)[which]])
+    p = {n: getattr(fine, n)[which] for n in ("E", "G", "A", "Iy", "Iz", "J", "Ip")}
+    K = (beam_elastic_local(L, p["E"], p["G"], p["A"], p["Iy"], p["Iz"], p["J"])
+         + alpha * np.asarray(axial, float)[which, None, None] * beam_geometric_local(L, p["A"], p["Ip"]))
     f = np.einsum("eij,ej->ei", K, u)
     return np.abs(f[:, [4, 10]]).max(axis=1), np.abs(f[:, [5, 11]]).max(axis=1)
 
@@ -123,10 +123,10 @@ def scale_for(result, members, case_index: int, mode_index: int, eff, share, set
     fine = result.fine
     im = result.input
     axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
-    My, Mz = end_moments(fine, c.modes[mode_index], result.refined.fine_axial(axial), alpha)
     in_m = members.of_element[result.refined.element_map] == m
+    My, Mz = end_moments(fine, c.modes[mode_index], result.refined.fine_axial(axial), alpha, in_m)
     EI = frame.E[g] * (frame.Iy[g] if axis == "y" else frame.Iz[g])
-    M_cr = float((My if axis == "y" else Mz)[in_m].max())
+    M_cr = float((My if axis == "y" else Mz).max())
     if not M_cr > 0:
         raise InputError(f"case '{c.name}' mode {mode_index + 1}: member {members.label[m]} is not bent by "
                          f"the mode; choose another [imperfection] member or give amplitude", source=source)

@@ -70,7 +70,6 @@ class Energies:
     bend_z: np.ndarray
     work: np.ndarray          # geometric work -N u^T G u (all terms)
     work_trans: np.ndarray    # translational part of it (no twist term)
-    u_local: np.ndarray       # (k, e, 12) local displacements
 
     @property
     def strain(self) -> np.ndarray:
@@ -81,40 +80,55 @@ class Energies:
         return self.bend_y + self.bend_z
 
 
-def _quad(u, M, idx):
-    """0.5 u[idx]^T M[idx, idx] u[idx] for (k, e, 12) u and (e, 12, 12) M."""
-    ui = u[:, :, idx]
-    Mi = M[:, idx][:, :, idx]
-    return 0.5 * np.einsum("kei,eij,kej->ke", ui, Mi, ui, optimize=True)
+#: sub-elements per block when computing energies (bounds memory to ~100 MB)
+CHUNK = 20000
+
+
+def _quad(u, M):
+    """0.5 u^T M u for (k, e, n) u and (e, n, n) M -> (k, e)."""
+    return 0.5 * np.einsum("kei,eij,kej->ke", u, M, u, optimize=True)
 
 
 def element_energies(fine: Frame, modes: np.ndarray, axial: np.ndarray) -> Energies:
-    """Energies of modes ``(k, n_nodes, 6)`` on the refined frame ``fine``."""
-    R, L = local_axes(fine)
-    T = transformation(R)
+    """Energies of modes ``(k, n_nodes, 6)`` on the refined frame ``fine``.
+
+    Vectorised over all sub-elements (in blocks of :data:`CHUNK` to bound memory) and modes.
+    """
     k = modes.shape[0]
     phi = modes.reshape(k, -1)
-    ug = phi[:, element_dofs(fine)]                              # (k, e, 12)
-    ul = np.einsum("eij,kej->kei", T, ug, optimize=True)
-    ne = fine.n_elements
-    Kl = np.zeros((ne, 12, 12))
-    Gl = np.zeros((ne, 12, 12))
-    b = ~fine.bar
-    if b.any():
-        Kl[b] = beam_elastic_local(L[b], fine.E[b], fine.G[b], fine.A[b], fine.Iy[b], fine.Iz[b], fine.J[b])
-        Gl[b] = beam_geometric_local(L[b], fine.A[b], fine.Ip[b])
-    if fine.bar.any():
-        Kl[fine.bar] = bar_elastic_local(L[fine.bar], fine.E[fine.bar], fine.A[fine.bar])
-        Gl[fine.bar] = bar_geometric_local(L[fine.bar])
+    dofs = element_dofs(fine)
     N = np.asarray(axial, float)
-    all_idx = list(range(12))
-    work = -2.0 * N * _quad(ul, Gl, all_idx)
-    Gt = Gl.copy()
-    Gt[:, _TW, :] = 0.0
-    Gt[:, :, _TW] = 0.0
-    work_trans = -2.0 * N * _quad(ul, Gt, all_idx)
-    return Energies(_quad(ul, Kl, _AX), _quad(ul, Kl, _TW), _quad(ul, Kl, _BY), _quad(ul, Kl, _BZ),
-                    work, work_trans, ul)
+    ne = fine.n_elements
+    out = {name: np.zeros((k, ne)) for name in ("axial", "twist", "bend_y", "bend_z", "work", "work_trans")}
+    R_all, L_all = local_axes(fine)
+    for lo in range(0, ne, CHUNK):
+        sl = slice(lo, min(ne, lo + CHUNK))
+        ul = np.einsum("eij,kej->kei", transformation(R_all[sl]), phi[:, dofs[sl]], optimize=True)
+        Kl, Gl = _local(fine, sl, L_all[sl])
+        for name, idx in (("axial", _AX), ("twist", _TW), ("bend_y", _BY), ("bend_z", _BZ)):
+            out[name][:, sl] = _quad(ul[:, :, idx], Kl[:, idx][:, :, idx])
+        tw = -2.0 * N[sl] * _quad(ul[:, :, _TW], Gl[:, _TW][:, :, _TW])
+        tr = [i for i in range(12) if i not in _TW]
+        out["work_trans"][:, sl] = -2.0 * N[sl] * _quad(ul[:, :, tr], Gl[:, tr][:, :, tr])
+        out["work"][:, sl] = out["work_trans"][:, sl] + tw
+    return Energies(**out)
+
+
+def _local(fine: Frame, sl: slice, L: np.ndarray):
+    """Local elastic and unit geometric matrices of the elements in ``sl``."""
+    n = len(L)
+    Kl = np.zeros((n, 12, 12))
+    Gl = np.zeros((n, 12, 12))
+    bar = fine.bar[sl]
+    b = ~bar
+    f = {name: getattr(fine, name)[sl] for name in ("E", "G", "A", "Iy", "Iz", "J", "Ip")}
+    if b.any():
+        Kl[b] = beam_elastic_local(L[b], f["E"][b], f["G"][b], f["A"][b], f["Iy"][b], f["Iz"][b], f["J"][b])
+        Gl[b] = beam_geometric_local(L[b], f["A"][b], f["Ip"][b])
+    if bar.any():
+        Kl[bar] = bar_elastic_local(L[bar], f["E"][bar], f["A"][bar])
+        Gl[bar] = bar_geometric_local(L[bar])
+    return Kl, Gl
 
 
 def per_member(values: np.ndarray, member_of_fine: np.ndarray, n_members: int) -> np.ndarray:
