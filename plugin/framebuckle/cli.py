@@ -1,6 +1,7 @@
-"""Command line: ``framebuckle solve INPUT [--study F] [--modes N] [--subdivide M] [--out DIR]``.
+"""Command line: ``framebuckle solve INPUT ...`` and ``framebuckle check INPUT ... [--min-alpha X] [--json]``.
 
-Exit codes: 0 done, 2 bad input or a model that cannot be solved (message, no traceback).
+Exit codes: 0 done (check: every case passes), 1 (check only) a case fails, 2 bad input or a model
+that cannot be solved (message, no traceback).
 """
 
 from __future__ import annotations
