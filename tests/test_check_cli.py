@@ -5,6 +5,7 @@ import json
 import math
 import subprocess
 import sys
+from pathlib import Path
 
 import meshio
 import numpy as np
@@ -118,3 +119,32 @@ def test_check_bad_input_exit_2(tmp_path):
     r = run(p, "--min-alpha", "1", "--out", tmp_path / "o")
     assert r.returncode == 2 and "--force" in r.stderr
     assert run(p, "--min-alpha", "1", "--out", tmp_path / "o", "--force").returncode == 0
+
+
+SAMPLES = Path(__file__).resolve().parents[1] / "sample_meshes"
+
+
+@pytest.mark.parametrize("name, study", [
+    ("workshop_portal.xdmf", None), ("lattice_mast.vtu", None),
+    ("footbridge.msh", "footbridge.study.toml")])
+def test_check_on_samples(name, study, tmp_path):
+    import framebuckle as fb
+    from framebuckle.api import _as_study
+    from framebuckle.check import run_check, write_check
+    st = _as_study(None if study is None else SAMPLES / study)
+    res = fb.solve(SAMPLES / name, st, modes=2)
+    rep = run_check(res, st)
+    paths = write_check(res, rep, tmp_path)
+    assert set(paths) == {"modes", "modes_fine", "summary", "members", "imperfect"}
+    with open(paths["members"], newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    n_cases = len(res.cases)
+    assert len(rows) == n_cases * 2 * rep.members.n
+    for case in res.cases:
+        for mode in ("1", "2"):
+            share = [float(r["energy_share"]) for r in rows if r["case"] == case.name and r["mode"] == mode]
+            assert sum(share) == pytest.approx(1.0, abs=1e-9)      # identity: shares of one total
+    g = pv.read(paths["modes"])
+    assert "member" in g.cell_data and any(k.startswith("L_cr_ratio_y") for k in g.cell_data)
+    s = json.loads(paths["summary"].read_text())
+    assert all("verdicts" in c and c["modes"][0]["type"] in ("sway", "member", "torsional") for c in s["cases"])
