@@ -69,6 +69,10 @@ def test_sway_portal_effective_length_closed_form():
     beam = [x for x in r if x["status"] != "compression"][0]
     assert beam["status"] == "negligible" and beam["N_cr"] is None and beam["L_cr"] is None
     assert case_modes(rep)[0]["type"] == "sway"
+    # chord share of the same closed-form shape y = 1 - cos(k z), k h = x (the beam does no work):
+    # (y(h)^2 / h) / integral(y'^2) = (1 - cos x)^2 / (x^2 (1/2 - sin 2x / (4 x)))
+    share = (1 - math.cos(x)) ** 2 / (x ** 2 * (0.5 - math.sin(2 * x) / (4 * x)))
+    assert case_modes(rep)[0]["sway_share"] == pytest.approx(share, rel=1e-3)
 
 
 def test_tension_member_is_marked_not_infinite():

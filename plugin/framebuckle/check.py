@@ -32,6 +32,9 @@ CSV_COLUMNS = ("case", "mode", "load_factor", "mode_type", "member", "cells", "l
                "N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "axis", "L_cr",
                "L_cr_ratio", "slenderness", "energy_share", "sensitivity", "sensitivity_rank")
 
+#: load factors closer than this (relative) are a cluster: sensitivities marked indicative
+CLOSE = 0.01
+
 #: cell fields written on the input mesh (mode 1 of every case)
 CELL_FIELDS = ("N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "slenderness",
                "energy_share", "sensitivity")
@@ -149,7 +152,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
         chord = chord_work(fine, c.modes, fine_axial, mof, members.ends, members.length)
         part = participation(en, chord, mof, members.n, tl, sl, cut)
         sens = bending_sensitivity(en, mof, members.n)
-        rep = repeated(c.load_factors)
+        rep = repeated(c.load_factors, CLOSE)
         modes_out = []
         for i in range(k):
             lam = float(c.load_factors[i])
@@ -165,7 +168,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
                 "mode": i + 1, "load_factor": lam, "type": part.kinds[i],
                 "twist_share": float(part.twist_share[i]), "sway_share": float(part.sway_share[i]),
                 "members_carrying": carrying[:20], "n_members_carrying": len(carrying),
-                "repeated": bool(rep[i]),
+                "close_to_another": bool(rep[i]),
                 "stiffen_first": [{"member": int(members.label[j]), "d_alpha_d_scale": float(sens[i, j]),
                                    "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 1e-9 * lam],
             })
@@ -181,8 +184,9 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
             "stiffen_first": modes_out[0]["stiffen_first"],
         })
         if rep[0]:
-            entry["notes"].append("alpha_cr is a repeated load factor: the modes of the cluster and their "
-                                  "sensitivities are not unique; stiffening advice is indicative")
+            entry["notes"].append(f"alpha_cr is within {CLOSE:.0%} of another load factor: the modes of such a "
+                                  f"cluster mix when stiffness changes, so their sensitivities and stiffening "
+                                  f"advice are indicative")
         if sway and sway[0]["mode"] != 1:
             entry["notes"].append(f"the lowest mode is of type '{modes_out[0]['type']}'; the lowest global sway "
                                   f"mode is mode {sway[0]['mode']} (alpha = {sway[0]['load_factor']:.4g}); "

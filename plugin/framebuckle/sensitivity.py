@@ -18,7 +18,8 @@ sensitivity :math:`(\partial\alpha/\alpha)/\partial s_m` is the member's
 share of the bending energy of the mode: stiffening the members with the
 largest share raises alpha_cr most.  Axial and torsional stiffness are not
 included (bars therefore get 0).  For repeated load factors (a cluster) the
-derivative of each mode is not defined; the result then says so.
+derivative of each mode is not defined, and for close ones it holds only for
+very small changes; the check marks modes within 1 % of another as indicative.
 """
 
 from __future__ import annotations
