@@ -297,3 +297,17 @@ def test_torsional_modes_give_no_imperfection_by_default():
     m, _ = F.cruciform()
     rep = run_check(fb.solve(m, subdivide=4, modes=1))
     assert rep.imperfection["skipped"] and rep.imperfection_mode is None
+
+
+def test_plastic_analysis_gate_and_bad_settings():
+    res = fb.solve(F.portal(), subdivide=4, modes=1, planar=True)
+    a = res.cases[0].load_factors[0]
+    # EN 1993-1-1:2005 clause 5.2.1(3): the plastic-analysis limit is 15, the elastic one 10;
+    # scale the forces so that 10 <= alpha_cr < 15
+    m = F.portal(P=(-1000.0 * a / 12.0, -1000.0 * a / 12.0))
+    r = run_check(fb.solve(m, subdivide=4, modes=1, planar=True), study_from_dict({"checks": {"analysis": "plastic"}}))
+    assert r.summary["check"]["min_alpha"] == 15 and not r.passed
+    assert run_check(fb.solve(m, subdivide=4, modes=1, planar=True)).passed
+    for bad in ({"analysis": "rigid"}, {"sway_limit": 1.5}, {"codes": ["XX"]}, {"min_alpha": -2}):
+        with pytest.raises(fb.InputError, match=r"\[checks\]"):
+            run_check(res, study_from_dict({"checks": bad}))

@@ -96,125 +96,132 @@ def _num(x):
     return x if math.isfinite(x) else None
 
 
+def _validate_settings(st: dict, source: str):
+    for code in st.get("codes", []):
+        if code not in ("EN1993", "AISC360"):
+            raise InputError(f"[checks] codes: unknown code '{code}' (EN1993, AISC360)", source=source)
+    if st.get("analysis", "elastic") not in ("elastic", "plastic"):
+        raise InputError(f"[checks] analysis must be \"elastic\" or \"plastic\", got {st['analysis']!r}",
+                         source=source)
+    for key in ("min_alpha", "en1993_elastic_limit", "en1993_plastic_limit", "en1993_amplify_limit",
+                "aisc_alpha", "aisc_max_B2", "fy"):
+        if key in st and not (math.isfinite(st[key]) and st[key] > 0):
+            raise InputError(f"[checks] {key} must be a positive number, got {st[key]}", source=source)
+    for key in ("twist_limit", "sway_limit", "energy_cut", "negligible_compression"):
+        if key in st and not 0 < st[key] <= 1:
+            raise InputError(f"[checks] {key} must be in (0, 1], got {st[key]}", source=source)
+
+
 def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
     """Everything the ``check`` command reports, from a solved :class:`~framebuckle.results.Result`."""
     study = study or Study()
     st = _settings(study)
+    _validate_settings(st, study.source)
+    st.setdefault("codes", ["EN1993", "AISC360"])
     storeys = _storeys(study)
-    for code in st.get("codes", []):
-        if code not in ("EN1993", "AISC360"):
-            raise InputError(f"[checks] codes: unknown code '{code}' (EN1993, AISC360)", source=study.source)
-    if st.get("analysis", "elastic") not in ("elastic", "plastic"):
-        raise InputError(f"[checks] analysis must be \"elastic\" or \"plastic\", got {st['analysis']!r}",
-                         source=study.source)
     gate = float(min_alpha if min_alpha is not None else st.get("min_alpha", codecheck.first_order_limit(st)))
     im = result.input
-    frame = result.model
-    fine = result.fine
-    members = group_members(frame, im.extra.get("member"), im.source)
-    mof = members.of_element[result.refined.element_map]          # member of every fine element
-    fy = _fy(result, st)
-    neg = float(st.get("negligible_compression", NEGLIGIBLE))
-    tl = float(st.get("twist_limit", TWIST_LIMIT))
-    sl = float(st.get("sway_limit", SWAY_LIMIT))
-    cut = float(st.get("energy_cut", ENERGY_CUT))
-    cells = _cells_text(members, im.cell_ids)
-    n_cells = im.n_cells
-    single = len(result.cases) == 1 and result.cases[0].name == "default"
+    members = group_members(result.model, im.extra.get("member"), im.source)
+    ctx = {
+        "result": result, "members": members, "fy": _fy(result, st), "storeys": storeys, "gate": gate,
+        "mof": members.of_element[result.refined.element_map],      # member of every fine element
+        "neg": float(st.get("negligible_compression", NEGLIGIBLE)),
+        "limits": (float(st.get("twist_limit", TWIST_LIMIT)), float(st.get("sway_limit", SWAY_LIMIT)),
+                   float(st.get("energy_cut", ENERGY_CUT))),
+        "cells": _cells_text(members, im.cell_ids), "settings": st,
+        "suffix": (lambda name: "") if len(result.cases) == 1 and result.cases[0].name == "default"
+        else (lambda name: f".{name}"),
+    }
     summary = result.summary()
-    rows, fields, table = [], {}, []
-    mem_field = np.full(n_cells, np.nan)
-    mem_field[im.cell_ids] = members.label[members.of_element]
-    fields["member"] = mem_field
-    passed_all = True
-    imp_case = None
-    case_by_name = {c["name"]: c for c in summary["cases"]}
-    for ci, c in enumerate(result.cases):
-        axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
-        entry = case_by_name[c.name]
-        alpha = c.alpha_cr
-        verdicts = codecheck.case_verdicts(alpha, {**st, "codes": st.get("codes", ["EN1993", "AISC360"])},
-                                           storeys, c.name)
-        ok = (alpha is None or alpha >= gate) and all(v["passes"] for v in verdicts if v["code"] == "AISC360")
-        passed_all &= ok
-        entry.update({"alpha_cr": alpha, "min_alpha": gate, "passed": bool(ok), "verdicts": verdicts})
-        if c.status != "ok":
-            N, _ = member_forces(frame, members, axial)
-            for m in range(members.n):
-                rows.append(_row(c.name, None, None, "", members, m, cells, N[m],
-                                 "tension" if N[m] > 0 else "negligible"))
-            entry.update({"modes": [], "governing_members": [], "stiffen_first": []})
-            table.append((c.name, None, "-", _verdict_short(verdicts), "-", "-", ok))
-            continue
-        k = len(c.load_factors)
-        fine_axial = result.refined.fine_axial(axial)
-        en = element_energies(fine, c.modes, fine_axial)
-        chord = chord_work(fine, c.modes, fine_axial, mof, members.ends, members.length)
-        part = participation(en, chord, mof, members.n, tl, sl, cut)
-        sens = bending_sensitivity(en, mof, members.n)
-        rep = repeated(c.load_factors, CLOSE)
-        modes_out = []
-        for i in range(k):
-            lam = float(c.load_factors[i])
-            eff = effective_lengths(frame, members, axial, lam, part.bend_y[i], part.bend_z[i], fy, neg, result.constraints.planar_axis)
-            rank = ranking(sens[i])
-            rk = np.empty(members.n, np.int64)
-            rk[rank] = np.arange(1, members.n + 1)
-            for m in range(members.n):
-                rows.append(_row(c.name, i + 1, lam, part.kinds[i], members, m, cells, eff.N_Ed[m],
-                                 eff.status[m], eff, part.share[i, m], sens[i, m], rk[m]))
-            carrying = [int(members.label[j]) for j in part.carrying[i]]
-            modes_out.append({
-                "mode": i + 1, "load_factor": lam, "type": part.kinds[i],
-                "twist_share": float(part.twist_share[i]), "sway_share": float(part.sway_share[i]),
-                "members_carrying": carrying[:20], "n_members_carrying": len(carrying),
-                "close_to_another": bool(rep[i]),
-                "stiffen_first": [{"member": int(members.label[j]), "d_alpha_d_scale": float(sens[i, j]),
-                                   "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 1e-9 * lam],
-            })
-            if i == 0:
-                _put_fields(fields, "" if single else f".{c.name}", im.cell_ids, members, eff,
-                            part.share[0], sens[0], n_cells)
-                first_eff, first_share = eff, part.share[0]
-        sway = [m for m in modes_out if m["type"] == "sway"]
-        entry.update({
-            "modes": modes_out,
-            "alpha_cr_sway": sway[0]["load_factor"] if sway else None,
-            "governing_members": modes_out[0]["members_carrying"],
-            "stiffen_first": modes_out[0]["stiffen_first"],
-        })
-        if rep[0]:
-            entry["notes"].append(f"alpha_cr is within {CLOSE:.0%} of another load factor: the modes of such a "
-                                  f"cluster mix when stiffness changes, so their sensitivities and stiffening "
-                                  f"advice are indicative")
-        if sway and sway[0]["mode"] != 1:
-            entry["notes"].append(f"the lowest mode is of type '{modes_out[0]['type']}'; the lowest global sway "
-                                  f"mode is mode {sway[0]['mode']} (alpha = {sway[0]['load_factor']:.4g}); "
-                                  f"verdicts use the lowest alpha_cr (conservative)")
-        gov = modes_out[0]["members_carrying"]
-        stiff = modes_out[0]["stiffen_first"]
-        table.append((c.name, alpha, modes_out[0]["type"], _verdict_short(verdicts),
-                      ", ".join(str(x) for x in gov[:4]) + (" ..." if len(gov) > 4 else ""),
-                      str(stiff[0]["member"]) if stiff else "-", ok))
-        if imp_case is None:
-            imp_case = (ci, first_eff, first_share, part)
-
-    imp_info, imp_mode = _imperfection(result, study, members, fy, imp_case, mof, fine)
+    rows, table = [], []
+    fields = {"member": np.full(im.n_cells, np.nan)}
+    fields["member"][im.cell_ids] = members.label[members.of_element]
+    by_name = {c["name"]: c for c in summary["cases"]}
+    for c in result.cases:
+        ok, row = _case(ctx, c, by_name[c.name], rows, fields)
+        table.append(row)
+    passed = all(c["passed"] for c in summary["cases"])
+    imp_info, imp_mode = _imperfection(result, study, members, ctx["fy"], ctx["mof"], result.fine)
+    tl, sl, cut = ctx["limits"]
     summary["check"] = {
-        "passed": bool(passed_all), "min_alpha": gate,
+        "passed": bool(passed), "min_alpha": gate,
         "min_alpha_from": ("--min-alpha" if min_alpha is not None else
                            "[checks] min_alpha" if "min_alpha" in st else
                            f"{codecheck.EN_CLAUSE_FIRST_ORDER} ({st.get('analysis', 'elastic')} analysis)"),
         "members": {"count": members.n, "from": "cell field 'member'" if members.explicit else
                     "automatic (collinear chains of equal section through free points)"},
-        "indicators": {"twist_limit": tl, "sway_limit": sl, "energy_cut": cut, "negligible_compression": neg},
+        "indicators": {"twist_limit": tl, "sway_limit": sl, "energy_cut": cut, "negligible_compression": ctx["neg"]},
         "imperfection": imp_info,
     }
     summary["cautions"] = list(CAUTIONS)
-    return CheckReport(members, summary, rows, fields, imp_info, imp_mode, bool(passed_all), table)
+    return CheckReport(members, summary, rows, fields, imp_info, imp_mode, bool(passed), table)
 
 
-def _imperfection(result, study, members, fy, first, mof, fine):
+def _case(ctx, c, entry, rows, fields):
+    """Fill the summary entry, CSV rows and cell fields of one case; return (passed, table row)."""
+    result, members = ctx["result"], ctx["members"]
+    im, frame = result.input, result.model
+    axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
+    alpha = c.alpha_cr
+    verdicts = codecheck.case_verdicts(alpha, ctx["settings"], ctx["storeys"], c.name)
+    ok = (alpha is None or alpha >= ctx["gate"]) and all(v["passes"] for v in verdicts if v["code"] == "AISC360")
+    entry.update({"alpha_cr": alpha, "min_alpha": ctx["gate"], "passed": bool(ok), "verdicts": verdicts})
+    if c.status != "ok":
+        N, _ = member_forces(frame, members, axial)
+        for m in range(members.n):
+            rows.append(_row(c.name, None, None, "", members, m, ctx["cells"], N[m],
+                             "tension" if N[m] > 0 else "negligible"))
+        entry.update({"modes": [], "governing_members": [], "stiffen_first": []})
+        return ok, (c.name, None, "-", _verdict_short(verdicts), "-", "-", ok)
+    fine_axial = result.refined.fine_axial(axial)
+    mof = ctx["mof"]
+    en = element_energies(result.fine, c.modes, fine_axial)
+    chord = chord_work(result.fine, c.modes, fine_axial, mof, members.ends, members.length)
+    part = participation(en, chord, mof, members.n, *ctx["limits"])
+    sens = bending_sensitivity(en, mof, members.n)
+    close = repeated(c.load_factors, CLOSE)
+    modes_out = []
+    for i, lam in enumerate(float(x) for x in c.load_factors):
+        eff = effective_lengths(frame, members, axial, lam, part.bend_y[i], part.bend_z[i], ctx["fy"],
+                                ctx["neg"], result.constraints.planar_axis)
+        rank = ranking(sens[i])
+        rk = np.empty(members.n, np.int64)
+        rk[rank] = np.arange(1, members.n + 1)
+        for m in range(members.n):
+            rows.append(_row(c.name, i + 1, lam, part.kinds[i], members, m, ctx["cells"], eff.N_Ed[m],
+                             eff.status[m], eff, part.share[i, m], sens[i, m], rk[m]))
+        carrying = [int(members.label[j]) for j in part.carrying[i]]
+        modes_out.append({
+            "mode": i + 1, "load_factor": lam, "type": part.kinds[i],
+            "twist_share": float(part.twist_share[i]), "sway_share": float(part.sway_share[i]),
+            "members_carrying": carrying[:20], "n_members_carrying": len(carrying),
+            "close_to_another": bool(close[i]),
+            "stiffen_first": [{"member": int(members.label[j]), "d_alpha_d_scale": float(sens[i, j]),
+                               "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 1e-9 * lam],
+        })
+        if i == 0:
+            _put_fields(fields, ctx["suffix"](c.name), im.cell_ids, members, eff, part.share[0], sens[0],
+                        im.n_cells)
+    sway = [m for m in modes_out if m["type"] == "sway"]
+    first = modes_out[0]
+    entry.update({"modes": modes_out, "alpha_cr_sway": sway[0]["load_factor"] if sway else None,
+                  "governing_members": first["members_carrying"], "stiffen_first": first["stiffen_first"]})
+    if close[0]:
+        entry["notes"].append(f"alpha_cr is within {CLOSE:.0%} of another load factor: the modes of such a "
+                              f"cluster mix when stiffness changes, so their sensitivities and stiffening "
+                              f"advice are indicative")
+    if sway and sway[0]["mode"] != 1:
+        entry["notes"].append(f"the lowest mode is of type '{first['type']}'; the lowest global sway "
+                              f"mode is mode {sway[0]['mode']} (alpha = {sway[0]['load_factor']:.4g}); "
+                              f"verdicts use the lowest alpha_cr (conservative)")
+    gov = first["members_carrying"]
+    stiff = first["stiffen_first"]
+    return ok, (c.name, alpha, first["type"], _verdict_short(verdicts),
+                ", ".join(str(x) for x in gov[:4]) + (" ..." if len(gov) > 4 else ""),
+                str(stiff[0]["member"]) if stiff else "-", ok)
+
+
+def _imperfection(result, study, members, fy, mof, fine):
     imp = dict(study.get("imperfection", default={}) or {})
     ok_cases = [i for i, c in enumerate(result.cases) if c.status == "ok"]
     if not ok_cases:
