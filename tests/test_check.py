@@ -104,6 +104,8 @@ def test_members_automatic_and_explicit():
     # a restraint at an intermediate point splits the column
     m.point_data["restraint"][2] = [1, 0, 0, 0, 0, 0]
     assert group_members(read_input(m).frame).n == 4
+    # a change of section at a free point splits a collinear chain
+    assert group_members(read_input(F.column(4, Iy=np.array([8e-6, 8e-6, 5e-6, 5e-6]))).frame).n == 2
     # explicit field wins and keeps the user's labels
     mx = F.column(4, member=[7, 7, 9, 9])
     mem = group_members(read_input(mx).frame, read_input(mx).extra["member"])
