@@ -223,9 +223,15 @@ def _case(ctx, c, entry, rows, fields):
 
 def _imperfection(result, study, members, fy, mof, fine):
     imp = dict(study.get("imperfection", default={}) or {})
+    for key in ("amplitude", "W", "fy", "gamma_M1", "alpha_ult_k"):
+        if key in imp and not (math.isfinite(imp[key]) and imp[key] > 0):
+            raise InputError(f"[imperfection] {key} must be a positive number, got {imp[key]}", source=study.source)
+    if "e0" in imp and not (math.isfinite(imp["e0"]) and imp["e0"] >= 0):
+        raise InputError(f"[imperfection] e0 must be >= 0, got {imp['e0']}", source=study.source)
     ok_cases = [i for i, c in enumerate(result.cases) if c.status == "ok"]
     if not ok_cases:
-        return None, None
+        return ({"skipped": True, "note": "no load case has a buckling mode: no imperfect mesh written"}
+                if imp else None), None
     if "case" in imp:
         names = [c.name for c in result.cases]
         if imp["case"] not in names:

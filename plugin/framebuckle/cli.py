@@ -105,6 +105,7 @@ def cmd_check(args) -> int:
 
     from .api import _as_study, solve
     from .check import format_table, run_check, write_check
+    from .write import _jsonable
     study = _as_study(args.study)
     result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide)
     report = run_check(result, study, args.min_alpha)
@@ -134,11 +135,6 @@ def cmd_check(args) -> int:
     print("wrote: " + ", ".join(str(p) for p in paths.values()))
     print("caution: " + " ".join(CAUTIONS))
     return report.exit_code
-
-
-def _jsonable(o):
-    from .write import _jsonable as j
-    return j(o)
 
 
 def main(argv=None) -> int:
