@@ -313,3 +313,30 @@ def test_plastic_analysis_gate_and_bad_settings():
     for bad in ({"analysis": "rigid"}, {"sway_limit": 1.5}, {"codes": ["XX"]}, {"min_alpha": -2}):
         with pytest.raises(fb.InputError, match=r"\[checks\]"):
             run_check(res, study_from_dict({"checks": bad}))
+
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+
+@settings(max_examples=8, deadline=None, derandomize=True)
+@given(h=st.floats(2.0, 8.0), b=st.floats(3.0, 20.0), ratio=st.floats(0.05, 20.0))
+def test_portal_properties(h, b, ratio):
+    """Any fixed-base portal with equal column loads: sway, closed-form L_cr / L and chord share,
+    shares summing to 1, and sum of sensitivities = alpha * bending share of the strain energy."""
+    Ic = 8e-6
+    res = fb.solve(F.portal(h, b, Ic, Ic * ratio), subdivide=6, modes=1, planar=True)
+    rep = run_check(res)
+    GB = (Ic / h) / (Ic * ratio / b)
+    # Timoshenko & Gere 1961, sec. 2.3 (see test_sway_portal_effective_length_closed_form)
+    x = brentq(lambda x: x / math.tan(x) + 6.0 / GB, math.pi / 2 + 1e-12, math.pi - 1e-12)
+    mode = case_modes(rep)[0]
+    assert mode["type"] == "sway"
+    assert mode["sway_share"] == pytest.approx(
+        (1 - math.cos(x)) ** 2 / (x ** 2 * (0.5 - math.sin(2 * x) / (4 * x))), rel=2e-3)
+    r = rows(rep)
+    for c in r:
+        if c["status"] == "compression":
+            assert c["L_cr_ratio"] == pytest.approx(math.pi / x, rel=2e-3)
+    assert sum(c["energy_share"] for c in r) == pytest.approx(1.0, abs=1e-12)
+    # identity of the eigenvalue derivative: sum_m d alpha / d s_m = alpha * U_bend / U <= alpha
+    assert 0 < sum(c["sensitivity"] for c in r) <= res.cases[0].load_factors[0] * (1 + 1e-12)
