@@ -191,7 +191,8 @@ def participation(en: Energies, chord: np.ndarray, member_of_fine: np.ndarray, n
     kinds, carrying = [], []
     for i in range(share.shape[0]):        # loop over modes only
         kinds.append(classify(twist_share[i], sway[i], twist_limit, sway_limit))
-        order = np.argsort(-share[i], kind="stable")
+        # ties (identical members) keep member order: compare to 9 significant digits
+        order = np.argsort(-np.round(share[i] / max(share[i].max(), 1e-300), 9), kind="stable")
         csum = np.cumsum(share[i][order])
         n = int(np.searchsorted(csum, cut - 1e-12) + 1)
         carrying.append(order[:min(n, len(order))])

@@ -38,7 +38,10 @@ def bending_sensitivity(en: Energies, member_of_fine: np.ndarray, n_members: int
 
 def ranking(sens: np.ndarray) -> np.ndarray:
     """Member indices, most effective first (ties keep member order)."""
-    return np.argsort(-np.nan_to_num(sens, nan=-np.inf), kind="stable")
+    s = np.nan_to_num(sens, nan=-np.inf)
+    top = np.abs(s[np.isfinite(s)]).max() if np.isfinite(s).any() else 1.0
+    # compare to 9 significant digits, so that identical members rank in member order
+    return np.argsort(-np.round(s / max(top, 1e-300), 9), kind="stable")
 
 
 def repeated(load_factors: np.ndarray, rel: float = 1e-6) -> np.ndarray:
