@@ -109,6 +109,7 @@ def fine_grid(result):
     cells = np.column_stack([np.full(len(e), 2), e]).ravel()
     grid = pv.UnstructuredGrid(cells, np.full(len(e), pv.CellType.LINE, np.uint8), np.asarray(f.nodes))
     grid.cell_data["cell_id"] = np.asarray(result.input.cell_ids[result.refined.element_map])
+    grid.cell_data["bar"] = np.asarray(f.bar, np.uint8)   # pictures draw bars straight
     nc = len(result.cases)
     im = result.input
     for case in im.cases:
