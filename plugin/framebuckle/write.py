@@ -37,6 +37,7 @@ def atomic_path(target: Path, force: bool = True, protect=()):
         fd, tmp = tempfile.mkstemp(prefix=f".{target.stem}.", suffix=".part" + target.suffix,
                                    dir=target.parent)
         os.close(fd)
+        _default_mode(tmp)
     except OSError as exc:
         raise OutputError(f"cannot write in the output folder: {exc.strerror or exc}",
                           source=str(target.parent)) from None
@@ -49,6 +50,16 @@ def atomic_path(target: Path, force: bool = True, protect=()):
         except OSError:
             pass
         raise
+
+
+def _default_mode(path):
+    """Give a new output the permissions of a normally created file (mkstemp makes it 0600)."""
+    mask = os.umask(0o22)
+    os.umask(mask)
+    try:
+        os.chmod(path, 0o666 & ~mask)
+    except OSError:
+        pass
 
 
 def prepare_dir(out: Path) -> Path:
