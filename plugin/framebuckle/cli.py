@@ -47,6 +47,8 @@ def _picture_commands(sub):
     r.add_argument("--scale", type=float, help="shape scale: drawn displacement of the largest node "
                                                 "(model units; default 10 %% of the model size)")
     r.add_argument("--animate", action="store_true", help="also write a looping GIF of the mode")
+    r.add_argument("--window", type=_window, default=(1200, 900), metavar="WxH",
+                   help="picture size in pixels (default 1200x900)")
     r.set_defaults(func=cmd_render)
     v = sub.add_parser("view", help="interactive window: mode, case and scale sliders (needs a display)")
     _common(v)
@@ -56,6 +58,16 @@ def _picture_commands(sub):
     h = sub.add_parser("report", help="one self-contained HTML report (pictures embedded)")
     _common(h)
     h.set_defaults(func=cmd_report)
+
+
+def _window(text):
+    try:
+        w, h = (int(x) for x in text.lower().split("x"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected WIDTHxHEIGHT in pixels, e.g. 800x600, got {text!r}") from None
+    if not (64 <= w <= 8192 and 64 <= h <= 8192):
+        raise argparse.ArgumentTypeError(f"picture size must be 64 to 8192 pixels each way, got {text!r}")
+    return w, h
 
 
 def cmd_render(args) -> int:
@@ -81,7 +93,7 @@ def cmd_render(args) -> int:
                 t = out / picture_name(stem, c, args.mode, ext)
                 if t.exists():
                     raise OutputError("output exists; use --force to replace it", source=str(t))
-    paths = render_all(ms, out, stem, cases, (args.mode,), args.scale, args.animate)
+    paths = render_all(ms, out, stem, cases, (args.mode,), args.scale, args.animate, args.window)
     for c in cases:
         case = ms.case(c)
         print(f"{c}: mode {args.mode}, load factor {case.load_factors[args.mode - 1]:.4g} "

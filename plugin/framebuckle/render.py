@@ -174,7 +174,7 @@ def animate_mode(ms, case=None, k: int = 1, path=None, scale=None, frames: int =
     try:
         p.set_background("white")
         p.add_text(title(c, k), position="upper_left", font_size=8, color="black")
-        for i, phase in enumerate(np.sin(2 * np.pi * np.arange(frames) / frames)):
+        for i, phase in enumerate(np.cos(2 * np.pi * np.arange(frames) / frames)):
             cur = polylines(pts0 + phase * s * disp)
             cur.point_data["|u|"] = curve.point_data["|u|"]
             _draw(p, base, cur, ms.size, clim)
