@@ -33,6 +33,7 @@ CMAP = "viridis"
 VIEWS = (("isometric", "iso"), ("plan X-Y", "xy"), ("elevation X-Z", "xz"), ("elevation Y-Z", "yz"))
 WINDOW = (1200, 900)
 GREY = "#8c8c8c"
+BAR_TITLE = "displacement magnitude (largest node = 1)"
 
 
 def has_display() -> bool:
@@ -118,12 +119,15 @@ def _draw(p, base, curve, size, clim, scalar_bar=False):
     tubes = curve.tube(radius=r, n_sides=10, capping=True)
     kw = {}
     if scalar_bar:
-        kw["scalar_bar_args"] = {"title": "displacement magnitude (largest node = 1)", "n_labels": 5,
+        kw["scalar_bar_args"] = {"title": " ", "n_labels": 5,
                                  "fmt": "%.2f", "vertical": False, "position_x": 0.2,
-                                 "position_y": 0.015, "width": 0.6, "height": 0.07,
+                                 "position_y": 0.015, "width": 0.6, "height": 0.1,
                                  "title_font_size": 14, "label_font_size": 12, "color": "black"}
     p.add_mesh(tubes, scalars="|u|", cmap=CMAP, clim=clim, show_scalar_bar=scalar_bar,
                name="shape", smooth_shading=True, **kw)
+    if scalar_bar:      # the bar's own title collides with its labels: a text above it instead
+        p.add_text(BAR_TITLE, position=(0.2, 0.125), viewport=True, font_size=7, color="black",
+                   name="bar_title")
 
 
 def _camera(p, view):
@@ -146,7 +150,7 @@ def render_mode(ms, case=None, k: int = 1, path=None, scale=None, window=WINDOW,
         for i, (label, view) in enumerate(VIEWS):
             p.subplot(i // 2, i % 2)
             _draw(p, base, curve, ms.size, clim, scalar_bar=(i == 3))
-            p.add_text(label, position="upper_right", font_size=10, color="black")
+            p.add_text(label, position="upper_right", font_size=8, color="black")
             if i == 0:
                 p.add_text(title(c, k) + f"\nshape scale {s:.3g}", position="upper_left",
                            font_size=11, color="black")
