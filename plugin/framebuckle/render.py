@@ -88,7 +88,7 @@ def shape_meshes(ms, mode: np.ndarray, scale: float | None = None, samples: int 
 
 
 def tube_radius(size: float) -> float:
-    return 0.006 * size
+    return 0.004 * size
 
 
 # ---------------------------------------------------------------- pictures
