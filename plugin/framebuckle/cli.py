@@ -151,7 +151,8 @@ def _fmt_table(result) -> str:
     return "\n".join(out)
 
 
-def print_result(result, paths, stream=sys.stdout):
+def print_result(result, paths, stream=None):
+    stream = stream or sys.stdout     # looked up at call time (tests and callers redirect it)
     s = result.summary()
     m = s["model"]
     print(f"{result.input.source}: {m['nodes']} points, {m['elements']} members, "
