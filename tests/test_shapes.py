@@ -113,3 +113,13 @@ def test_missing_mode_is_named():
         ms.mode("gravity", 3)
     with pytest.raises(fb.InputError, match="no load case 'nope'"):
         ms.mode("nope", 1)
+
+
+def test_input_level_result_file_draws_one_curve_per_cell(tmp_path):
+    # <stem>.modes.vtu holds the modes at the input points only: each cell is one Hermite curve
+    res = fb.solve(pm.portal_3d(), modes=1)
+    ms = shapes.load(write_result(res, tmp_path)["modes"])
+    assert len(ms.elements) == 9
+    np.testing.assert_allclose(ms.case("wind").modes[0], res.input_mode("wind", 0), atol=1e-12)
+    pts, disp = ms.curves(ms.case("wind").modes[0], samples=5)
+    np.testing.assert_allclose(disp[:, 0], res.input_mode("wind", 0)[ms.elements[:, 0], :3], atol=1e-12)

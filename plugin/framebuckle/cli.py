@@ -171,7 +171,9 @@ def print_result(result, paths, stream=None):
 def cmd_solve(args) -> int:
     from .api import solve
     from .write import write_result
-    result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide)
+    from .progress import Progress
+    with Progress(0, "solve") as bar:      # drawn only on a terminal
+        result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide, progress=bar)
     paths = write_result(result, Path(args.out), force=args.force)
     print_result(result, paths)
     return 0

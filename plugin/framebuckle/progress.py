@@ -60,12 +60,12 @@ class Progress:
         self._draw(what)
 
     def line(self, what: str = "") -> str:
-        n = self.total or 1
-        filled = int(self.WIDTH * min(self.done, n) / n)
-        bar = "#" * filled + "-" * (self.WIDTH - filled)
         el = time.monotonic() - self._t0
-        text = f"{self.label} [{bar}] {self.done}/{self.total} {el:5.1f}s {what}"
-        return text[:100]
+        if not self.total:          # unknown number of steps: a count, no bar
+            return f"{self.label} {self.done} done {el:5.1f}s {what}"[:100]
+        filled = int(self.WIDTH * min(self.done, self.total) / self.total)
+        bar = "#" * filled + "-" * (self.WIDTH - filled)
+        return f"{self.label} [{bar}] {self.done}/{self.total} {el:5.1f}s {what}"[:100]
 
     def _draw(self, what):
         if not self.show:
