@@ -66,9 +66,9 @@ def test_energy_shares_sum_to_one_and_find_the_columns():
     res = fb.solve(pm.portal_3d(), modes=1)
     for c in res.cases:
         share = report.energy_shares(res, c.name)
+        # element strain energies u_e^T K_e u_e / 2 are >= 0 and add up to the total (common practice)
         assert share.shape == (9,) and abs(share.sum() - 1) < 1e-12 and (share >= -1e-15).all()
-        # strain energy u^T K u / 2 = lambda * (-u^T Kg u) / 2 at buckling (common practice):
-        # the shares weight the members that bend; the two most loaded columns lead
+    # in this model the two most compressed columns (cells 1 and 2) bend most in the first mode
     gov = np.argsort(-report.energy_shares(res, "gravity"))[:2]
     assert set(gov.tolist()) == {1, 2}
 

@@ -33,6 +33,8 @@ CMAP = "viridis"
 VIEWS = (("isometric", "iso"), ("plan X-Y", "xy"), ("elevation X-Z", "xz"), ("elevation Y-Z", "yz"))
 WINDOW = (1200, 900)
 GREY = "#8c8c8c"
+#: largest drawn translation of a normalised mode below which it is a twist only
+TWIST_ONLY = 1e-6
 BAR_TITLE = "displacement magnitude (largest node = 1)"
 
 
@@ -152,8 +154,10 @@ def render_mode(ms, case=None, k: int = 1, path=None, scale=None, window=WINDOW,
             _draw(p, base, curve, ms.size, clim, scalar_bar=(i == 3))
             p.add_text(label, position="upper_right", font_size=8, color="black")
             if i == 0:
-                p.add_text(title(c, k) + f"\nshape scale {s:.3g}", position="upper_left",
-                           font_size=11, color="black")
+                note = f"\nshape scale {s:.3g}"
+                if float(curve.point_data["|u|"].max()) < TWIST_ONLY:
+                    note = "\nthe member axes hardly move: a twist of members (see the notes)"
+                p.add_text(title(c, k) + note, position="upper_left", font_size=11, color="black")
             _camera(p, view)
         if return_img:
             return p.screenshot(return_img=True)
