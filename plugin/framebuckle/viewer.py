@@ -16,6 +16,8 @@ import numpy as np
 from .errors import InputError
 
 RESULT_SUFFIXES = (".modes_fine.vtu", ".modes.vtu")
+SLIDER = {"style": "modern", "title_height": 0.018, "slider_width": 0.015, "tube_width": 0.004,
+          "color": "black"}
 
 
 def result_stem(path) -> str:
@@ -88,12 +90,12 @@ def build_viewer(ms, case=None, k: int = 1, off_screen: bool = False, window=(12
     render._camera(p, "iso")
     kmax = max(len(ms.case(n).load_factors) for n in names)
     p.add_slider_widget(lambda v: update(factor=v), [0.0, 5.0], value=1.0, title="scale (x automatic)",
-                        pointa=(0.70, 0.92), pointb=(0.97, 0.92), style="modern", fmt="%.2f")
+                        pointa=(0.03, 0.84), pointb=(0.25, 0.84), fmt="%.2f", **SLIDER)
     if kmax > 1:
         p.add_slider_widget(lambda v: update(mode=v), [1, kmax], value=k, title="mode",
-                            pointa=(0.70, 0.78), pointb=(0.97, 0.78), style="modern", fmt="%.0f")
+                            pointa=(0.03, 0.72), pointb=(0.25, 0.72), fmt="%.0f", **SLIDER)
     if len(names) > 1:
         p.add_slider_widget(lambda v: update(case_index=v), [0, len(names) - 1], value=state["case"],
                             title="case (" + ", ".join(names[:6]) + (" ..." if len(names) > 6 else "") + ")",
-                            pointa=(0.70, 0.64), pointb=(0.97, 0.64), style="modern", fmt="%.0f")
+                            pointa=(0.03, 0.60), pointb=(0.25, 0.60), fmt="%.0f", **SLIDER)
     return p, update
