@@ -7,6 +7,7 @@ that cannot be solved (message, no traceback).
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -41,6 +42,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="alpha_cr every case must reach (default: EN 1993-1-1 5.2.1(3) limit, 10 elastic)")
     c.add_argument("--json", action="store_true", help="print the summary as JSON on stdout")
     c.set_defaults(func=cmd_check)
+    _picture_commands(sub)
     return p
 
 
@@ -52,6 +54,100 @@ def _positive_float(text):
     if not v > 0 or v == float("inf"):
         raise argparse.ArgumentTypeError(f"must be a positive number, got {text}")
     return v
+
+
+def _picture_commands(sub):
+    """``render``, ``view`` and ``report`` (pictures and the HTML report)."""
+    r = sub.add_parser("render", help="PNG pictures (and GIF animations) of buckling modes, off-screen")
+    _common(r)
+    r.set_defaults(out="framebuckle_out")
+    r.add_argument("--case", action="append", help="load case to draw (repeatable; default: every case)")
+    r.add_argument("--mode", type=_positive_int, default=1, help="mode number, 1 = alpha_cr (default 1)")
+    r.add_argument("--scale", type=float, help="shape scale: drawn displacement of the largest node "
+                                                "(model units; default 10 %% of the model size)")
+    r.add_argument("--animate", action="store_true", help="also write a looping GIF of the mode")
+    r.add_argument("--window", type=_window, default=(1200, 900), metavar="WxH",
+                   help="picture size in pixels (default 1200x900)")
+    r.set_defaults(func=cmd_render)
+    v = sub.add_parser("view", help="interactive window: mode, case and scale sliders (needs a display)")
+    _common(v)
+    v.add_argument("--case", help="load case shown first")
+    v.add_argument("--mode", type=_positive_int, default=1, help="mode shown first (default 1)")
+    v.set_defaults(func=cmd_view)
+    h = sub.add_parser("report", help="one self-contained HTML report (pictures embedded)")
+    _common(h)
+    h.set_defaults(func=cmd_report)
+
+
+def _window(text):
+    try:
+        w, h = (int(x) for x in text.lower().split("x"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected WIDTHxHEIGHT in pixels, e.g. 800x600, got {text!r}") from None
+    if not (64 <= w <= 8192 and 64 <= h <= 8192):
+        raise argparse.ArgumentTypeError(f"picture size must be 64 to 8192 pixels each way, got {text!r}")
+    return w, h
+
+
+def cmd_render(args) -> int:
+    from .errors import InputError
+    from .progress import Progress
+    from .render import picture_name, render_all
+    from .viewer import load_modes, result_stem
+    from .write import prepare_dir
+    if args.scale is not None and not (args.scale >= 0 and args.scale < float("inf")):
+        raise InputError(f"--scale must be a finite number >= 0, got {args.scale}")
+    with Progress(0, "solve") as bar:
+        ms, result = load_modes(args.input, args.study, args.modes, args.subdivide, progress=bar)
+    out = prepare_dir(Path(args.out))
+    stem = result_stem(args.input)
+    cases = args.case or [c.name for c in ms.cases if len(c.load_factors)]
+    if not cases:
+        raise InputError("no load case has a buckling mode to draw: "
+                         + "; ".join(f"{c.name}: {c.message}" for c in ms.cases), source=ms.source)
+    if not args.force:
+        from .errors import OutputError
+        for c in cases:
+            for ext in ("png", "gif") if args.animate else ("png",):
+                t = out / picture_name(stem, c, args.mode, ext)
+                if t.exists():
+                    raise OutputError("output exists; use --force to replace it", source=str(t))
+    paths = render_all(ms, out, stem, cases, (args.mode,), args.scale, args.animate, args.window)
+    for c in cases:
+        case = ms.case(c)
+        print(f"{c}: mode {args.mode}, load factor {case.load_factors[args.mode - 1]:.4g} "
+              f"(alpha_cr {case.load_factors[0]:.4g})")
+    print("wrote: " + ", ".join(str(p) for p in paths))
+    print("caution: " + " ".join(CAUTIONS))
+    return 0
+
+
+def cmd_view(args) -> int:
+    from .render import has_display
+    if not has_display():
+        print("framebuckle: error: no display (DISPLAY and WAYLAND_DISPLAY are not set), so no window "
+              f"can open; write pictures instead: framebuckle render {args.input} --out DIR",
+              file=sys.stderr)
+        return 2
+    from .viewer import build_viewer, load_modes
+    ms, _ = load_modes(args.input, args.study, args.modes, args.subdivide)
+    plotter, _ = build_viewer(ms, args.case, args.mode)
+    print("caution: " + " ".join(CAUTIONS))
+    plotter.show()
+    return 0
+
+
+def cmd_report(args) -> int:
+    from .api import solve
+    from .progress import Progress
+    from .report import make_report
+    from .study import load_study
+    study = load_study(args.study) if args.study else None
+    with Progress(0, "solve") as bar:
+        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, progress=bar)
+    path = make_report(result, Path(args.out), study=study, force=args.force)
+    print_result(result, {"report": path})
+    return 0
 
 
 def _common(s):
@@ -74,7 +170,8 @@ def _fmt_table(result) -> str:
     return "\n".join(out)
 
 
-def print_result(result, paths, stream=sys.stdout):
+def print_result(result, paths, stream=None):
+    stream = stream or sys.stdout     # looked up at call time (tests and callers redirect it)
     s = result.summary()
     m = s["model"]
     print(f"{result.input.source}: {m['nodes']} points, {m['elements']} members, "
@@ -93,7 +190,9 @@ def print_result(result, paths, stream=sys.stdout):
 def cmd_solve(args) -> int:
     from .api import solve
     from .write import write_result
-    result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide)
+    from .progress import Progress
+    with Progress(0, "solve") as bar:      # drawn only on a terminal
+        result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide, progress=bar)
     paths = write_result(result, Path(args.out), force=args.force)
     print_result(result, paths)
     return 0
@@ -145,6 +244,13 @@ def main(argv=None) -> int:
     except FrameBuckleError as exc:
         print(f"framebuckle: error: {exc}", file=sys.stderr)
         return exc.exit_code
+    except BrokenPipeError:          # e.g. `framebuckle check ... | head`: stop quietly
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        except OSError:
+            pass
+        return 141                  # what a process ended by SIGPIPE reports
     except KeyboardInterrupt:
         print("framebuckle: interrupted; no partial output was left", file=sys.stderr)
         return 130
