@@ -135,6 +135,16 @@ def element_matrices(frame: Frame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
     Returns ``(Ke, Ge, T)``, each (e, 12, 12): ``Kg_element = P * Ge``.
     """
+    Kl, Gl, T, _ = local_matrices(frame)
+    Ke = np.einsum("eji,ejk,ekl->eil", T, Kl, T, optimize=True)
+    Ge = np.einsum("eji,ejk,ekl->eil", T, Gl, T, optimize=True)
+    return Ke, Ge, T
+
+
+def local_matrices(frame: Frame):
+    """Local ``(Kl, Gl, T, C)``: elastic and unit-force geometric stiffness after end-release
+    condensation, the transformation, and the condensation matrices ``C`` (None without releases).
+    """
     R, L = local_axes(frame)
     T = transformation(R)
     beam = ~frame.bar
@@ -149,9 +159,15 @@ def element_matrices(frame: Frame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         b = frame.bar
         Kl[b] = bar_elastic_local(L[b], frame.E[b], frame.A[b])
         Gl[b] = bar_geometric_local(L[b])
-    Ke = np.einsum("eji,ejk,ekl->eil", T, Kl, T, optimize=True)
-    Ge = np.einsum("eji,ejk,ekl->eil", T, Gl, T, optimize=True)
-    return Ke, Ge, T
+    C = None
+    if frame.release is not None and frame.release.any():
+        from .releases import condensation, condense
+        r = np.flatnonzero(frame.release.any(axis=1))
+        C = np.broadcast_to(np.eye(12), Kl.shape).copy()
+        C[r] = condensation(Kl[r], frame.release[r], frame.parent[r], frame.source)
+        Kl[r] = condense(Kl[r], C[r])
+        Gl[r] = condense(Gl[r], C[r])
+    return Kl, Gl, T, C
 
 
 def element_dofs(frame: Frame) -> np.ndarray:

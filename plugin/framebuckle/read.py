@@ -8,6 +8,8 @@ Input contract (default field names; a study file may rename them):
   ``E``, ``G``, ``A``, ``Iy``, ``Iz``, ``J``, optional ``Ip``, ``Iw``,
   ``orientation`` (3 components), ``bar`` (1 = pin-ended axial-only member).
 * point field ``restraint`` (n, 6) of 0/1 for [ux, uy, uz, rx, ry, rz].
+* optional cell fields ``release_start``, ``release_end`` (6 components of 0/1,
+  local [N, Vy, Vz, T, My, Mz], 1 = released), see :mod:`framebuckle.releases`.
 * XDMF time series: each time step is a load case.
 """
 
@@ -23,6 +25,7 @@ import numpy as np
 
 from .errors import InputError
 from .model import Frame, LoadCase, make_case, make_frame
+from .releases import read_releases
 from .study import SUPPORT_KINDS, Study
 
 LINE_TYPES = ("line", "line3")
@@ -303,9 +306,13 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
     sets = point_sets(mesh)
     restraint = _apply_supports(restraint, study, sets, np.asarray(mesh.points, float), src)
 
+    # end releases (cell fields and [[releases]] of the study file)
+    release = read_releases(mesh, study, blocks, offsets, cell_ids, cf("release_start", ncomp=6),
+                            cf("release_end", ncomp=6), cf("member"), src)
+
     frame = make_frame(mesh.points, elements, props["E"], props["G"], props["A"], props["Iy"],
                        props["Iz"], J, Ip=props["Ip"], orientation=orientation, bar=is_bar,
-                       restraint=restraint, parent=cell_ids, source=src)
+                       restraint=restraint, parent=cell_ids, source=src, release=release)
 
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)

@@ -131,8 +131,12 @@ class Factor:
         return self.lu.solve(np.asarray(b, dtype=float))
 
     def pivots(self) -> tuple[np.ndarray, np.ndarray]:
-        """(pivot, column) pairs of the factorization."""
-        return self.lu.U.diagonal(), self.lu.perm_c
+        """(pivot, column) pairs of the factorization.
+
+        ``Pr A Pc = L U`` with ``Pc[i, perm_c[i]] = 1``: pivot ``k`` belongs to the
+        original column ``i`` with ``perm_c[i] = k``, i.e. ``argsort(perm_c)[k]``.
+        """
+        return self.lu.U.diagonal(), np.argsort(self.lu.perm_c)
 
 
 def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, source: str,

@@ -20,6 +20,7 @@ FIELD_DEFAULTS = {
     "axial_force": "axial_force", "E": "E", "G": "G", "A": "A", "Iy": "Iy", "Iz": "Iz",
     "J": "J", "Ip": "Ip", "Iw": "Iw", "orientation": "orientation", "bar": "bar",
     "restraint": "restraint", "member": "member",
+    "release_start": "release_start", "release_end": "release_end",
 }
 
 _num = (int, float)
@@ -36,6 +37,8 @@ SCHEMA: dict[str, Any] = {
     "materials": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
     "supports": ("LIST_OF", {"set": (str,), "box": {"min": (list,), "max": (list,)},
                              "fix": (list, str), "points": (list,)}),
+    "releases": ("LIST_OF", {"set": (str,), "member": (list,), "cells": (list,),
+                             "start": (list, str), "end": (list, str)}),
 }
 
 SUPPORT_KINDS = {"fixed": [1, 1, 1, 1, 1, 1], "pinned": [1, 1, 1, 0, 0, 0],
