@@ -6,6 +6,7 @@ from pathlib import Path
 
 import numpy as np
 
+from . import preload as _preload
 from .assemble import Assembler
 from .errors import InputError
 from .read import InputModel, read_input
@@ -31,7 +32,8 @@ def _as_study(study) -> Study:
 
 
 def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = None,
-          planar: bool | str | None = None, method: str | None = None, progress=None) -> Result:
+          planar: bool | str | None = None, method: str | None = None, progress=None,
+          preload=None) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
     Parameters
@@ -42,6 +44,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     subdivide : sub-elements per beam cell (default 4)
     planar : ``"auto"`` (default), ``True`` or ``False``
     method : eigensolver: ``"auto"``, ``"dense"`` or ``"arpack"``
+    preload : name of a load case held constant while the others are scaled, or
+        ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.preload`
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -58,10 +62,12 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack)", source=st.source)
 
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
-    return run(im, k, m, pl, meth, progress=progress)
+    options = {"preload": _preload.parse(preload, st, im.cases, im.source)}
+    return run(im, k, m, pl, meth, progress=progress, options=options)
 
 
-def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result:
+def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=None) -> Result:
+    options = options or {}
     ref = _subdivide(im.frame, m)
     fine = ref.frame
     asm = Assembler.build(fine)
@@ -72,16 +78,22 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
     check_supported(fine, cons, n_in, im.source)
     factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
     free = cons.free
+    pre = None
+    if options.get("preload"):
+        pname, pfac = options["preload"]
+        pcase = next(c for c in im.cases if c.name == pname)
+        pre = _preload.prepare(pname, pfac, Kff, _case_geometric(asm, ref, pcase)[free][:, free], im.source)
     cases = []
     v0 = None
     for case in im.cases:
+        Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
         axial = ref.fine_axial(case.axial)
         scale = np.abs(axial).max() if axial.size else 0.0
         if not (axial < -1e-12 * max(scale, 1e-300)).any():
             cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
             continue
-        Gff = asm.geometric(axial)[free][:, free]
-        er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+        Gff = _case_geometric(asm, ref, case)[free][:, free]
+        er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
         if len(er.load_factors) == 0:
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                     method=er.method))
@@ -90,6 +102,9 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
         full = np.zeros((fine.n_dofs, er.modes.shape[1]))
         full[free] = er.modes
         notes = []
+        if pre is not None:
+            notes.append(pre.note() if case.name != pre.name else
+                         "this case is the constant preload; its load factor is for the case alone")
         if len(er.load_factors) < k:
             notes.append(f"only {len(er.load_factors)} positive load factor(s) exist for this case")
         if er.cluster_continues:
@@ -102,7 +117,14 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
             progress(case.name)
     notes = list(im.notes) + list(cons.notes)
     settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method}
+    if options.get("preload"):
+        settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     return Result(im, ref, cons, cases, notes, settings)
+
+
+def _case_geometric(asm, ref, case):
+    """Global geometric stiffness of one load case on the fine model."""
+    return asm.geometric(ref.fine_axial(case.axial))
 
 
 def _interior_cell(ref, im):

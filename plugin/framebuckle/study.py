@@ -37,6 +37,7 @@ SCHEMA: dict[str, Any] = {
     "materials": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
     "supports": ("LIST_OF", {"set": (str,), "box": {"min": (list,), "max": (list,)},
                              "fix": (list, str), "points": (list,)}),
+    "preload": {"case": (str,), "factor": (int, float)},
     "releases": ("LIST_OF", {"set": (str,), "member": (list,), "cells": (list,),
                              "start": (list, str), "end": (list, str)}),
 }
