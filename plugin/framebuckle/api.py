@@ -6,6 +6,7 @@ from pathlib import Path
 
 import numpy as np
 
+from . import adequacy as _adequacy
 from . import preload as _preload
 from .assemble import Assembler
 from .errors import InputError
@@ -33,7 +34,7 @@ def _as_study(study) -> Study:
 
 def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = None,
           planar: bool | str | None = None, method: str | None = None, progress=None,
-          preload=None) -> Result:
+          preload=None, mesh_check=None) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
     Parameters
@@ -46,6 +47,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     method : eigensolver: ``"auto"``, ``"dense"`` or ``"arpack"``
     preload : name of a load case held constant while the others are scaled, or
         ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.preload`
+    mesh_check : ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
+        sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.adequacy`
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -62,7 +65,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack)", source=st.source)
 
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
-    options = {"preload": _preload.parse(preload, st, im.cases, im.source)}
+    options = {"preload": _preload.parse(preload, st, im.cases, im.source),
+               "mesh_check": _adequacy.parse(mesh_check, st, im.source)}
     return run(im, k, m, pl, meth, progress=progress, options=options)
 
 
@@ -115,11 +119,21 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                                 er.residuals, er.cluster_continues, er.method, notes))
         if progress:
             progress(case.name)
+    check = options.get("mesh_check", "auto")
+    if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
+        fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))
+        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im))
     notes = list(im.notes) + list(cons.notes)
-    settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method}
+    settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method,
+                "mesh_check": check}
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     return Result(im, ref, cons, cases, notes, settings)
+
+
+def _mesh_check_orders(im) -> dict:
+    """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
+    return {}
 
 
 def _case_geometric(asm, ref, case):

@@ -30,7 +30,7 @@ _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", 
 #: whose keys are free (integer ids) and whose values follow the inner schema.
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
-                 "cases": (list,), "eigensolver": (str,)},
+                 "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str)},
     "units": {"force": (str,), "length": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
