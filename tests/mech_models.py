@@ -45,3 +45,16 @@ def _per_cell(v, ncell):
     if a.ndim == 1 and len(a) != ncell:
         return np.tile(a, (ncell, 1))
     return a.copy()
+
+
+def static_solve(frame, loads):
+    """First-order displacements (n, 6) of ``frame`` under nodal loads (n, 6) (test helper)."""
+    import scipy.sparse.linalg as spla
+    from framebuckle.assemble import Assembler
+    from framebuckle.solve import find_constraints
+    K = Assembler.build(frame).stiffness()
+    cons = find_constraints(frame, K, False)
+    u = np.zeros(frame.n_dofs)
+    f = cons.free
+    u[f] = spla.spsolve(K.tocsc()[f][:, f], np.asarray(loads, float).reshape(-1)[f])
+    return u.reshape(-1, 6)

@@ -105,7 +105,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         v0 = er.modes[:, 0]
         full = np.zeros((fine.n_dofs, er.modes.shape[1]))
         full[free] = er.modes
-        notes = []
+        notes = list(case.extra.get("notes", []))
         if pre is not None:
             notes.append(pre.note() if case.name != pre.name else
                          "this case is the constant preload; its load factor is for the case alone")

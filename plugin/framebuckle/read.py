@@ -10,6 +10,9 @@ Input contract (default field names; a study file may rename them):
 * point field ``restraint`` (n, 6) of 0/1 for [ux, uy, uz, rx, ry, rz].
 * optional cell fields ``release_start``, ``release_end`` (6 components of 0/1,
   local [N, Vy, Vz, T, My, Mz], 1 = released), see :mod:`framebuckle.releases`.
+* instead of (or beside) an axial force: point fields ``displacement`` (n, 3)
+  and optional ``rotation`` (n, 3), or ``displacement.<case>`` /
+  ``rotation.<case>``; forces recovered by :mod:`framebuckle.recover`.
 * XDMF time series: each time step is a load case.
 """
 
@@ -336,8 +339,10 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
             a = np.repeat(_cell_field(mesh, name, blocks, src), expand)
             label = "default" if name == base else name[len(base) + 1:]
             cases.append(make_case(label, a, frame, src))
+    cases = _recovered_cases(mesh, study, frame, src, steps, cases)
     if not cases:
-        raise InputError(f"no axial force field: expected a cell field '{base}' or '{base}.<case>'; "
+        raise InputError(f"no axial force field: expected a cell field '{base}' or '{base}.<case>' "
+                         f"(or point fields '{study.field_name('displacement')}'[.<case>]); "
                          f"cell fields in the file: {', '.join(sorted(mesh.cell_data)) or 'none'}",
                          source=src)
     wanted = study.get("analysis", "cases")
@@ -349,6 +354,36 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
                                  f"cases: {', '.join(names)}", source=study.source)
         cases = [c for c in cases if c.name in wanted]
     return cases
+
+
+def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
+    """Cases from point displacements (and rotations), see :mod:`framebuckle.recover`."""
+    from .recover import disagreement, displacement_fields, recover_case
+    by_name = {c.name: i for i, c in enumerate(cases)}
+    out = list(cases)
+    sources = [(f"t={t:g}", pd) for t, pd, _ in steps] if steps else [(None, mesh.point_data)]
+    for prefix, pd in sources:
+        for suffix, (dname, rname) in displacement_fields(pd, study).items():
+            if prefix is None:
+                label = suffix or "default"
+            else:
+                label = prefix + (f"/{suffix}" if suffix else "")
+            axial, moments = recover_case(frame, pd, dname, rname, src)
+            extra = {"moments": moments, "moments_from": "displacements"} if moments is not None else {}
+            if label in by_name:
+                c = out[by_name[label]]
+                rel, i = disagreement(c.axial, axial)
+                extra["notes"] = [f"axial forces recovered from '{dname}' differ from the given axial force "
+                                  f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
+                                  f"the given axial forces are used"]
+                out[by_name[label]] = LoadCase(c.name, c.axial, {**c.extra, **extra})
+            else:
+                c = make_case(label, axial, frame, src)
+                extra["notes"] = [f"axial forces recovered from the point field '{dname}'"
+                                  + (f" and end moments from '{rname}'" if rname else "")]
+                out.append(LoadCase(c.name, c.axial, extra))
+                by_name[label] = len(out) - 1
+    return out
 
 
 def _case_fields(mesh, base):

@@ -21,6 +21,7 @@ FIELD_DEFAULTS = {
     "J": "J", "Ip": "Ip", "Iw": "Iw", "orientation": "orientation", "bar": "bar",
     "restraint": "restraint", "member": "member",
     "release_start": "release_start", "release_end": "release_end",
+    "displacement": "displacement", "rotation": "rotation",
 }
 
 _num = (int, float)
