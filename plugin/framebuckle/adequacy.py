@@ -15,7 +15,10 @@ Finite Element Method, sec. 6.3).  This is the order of flexural buckling
 (measured on a pinned column: 3.87 from 2, 4, 8 and 3.96 from 4, 8, 16 sub-elements,
 tests/test_adequacy.py).  Twist is
 interpolated linearly (k = 1, m = 1: :math:`h^2`), so cases whose geometric
-stiffness has moment terms (lateral-torsional buckling) use ``p = 2``.  The
+stiffness has moment terms (lateral-torsional buckling) use ``p = 2``, and so do
+models with shear areas: the shear parameter grows as the elements shrink and
+the measured order of the Timoshenko element is 2 (errors 0.95 %, 0.23 %,
+0.058 %, 0.015 % at 4, 8, 16, 32 sub-elements of a shear-flexible column).  The
 extrapolation is an estimate: the relative difference between the two solves
 is reported, and a warning is given when it exceeds :data:`TOLERANCE`.
 

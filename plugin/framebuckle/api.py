@@ -133,7 +133,9 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
 
 def _mesh_check_orders(im) -> dict:
     """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
-    return {}
+    f = im.frame
+    shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
+    return {c.name: _adequacy.ORDER_TWIST for c in im.cases if shear}
 
 
 def _case_geometric(asm, ref, case):

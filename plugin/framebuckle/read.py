@@ -13,6 +13,7 @@ Input contract (default field names; a study file may rename them):
 * instead of (or beside) an axial force: point fields ``displacement`` (n, 3)
   and optional ``rotation`` (n, 3), or ``displacement.<case>`` /
   ``rotation.<case>``; forces recovered by :mod:`framebuckle.recover`.
+* optional cell fields ``Asy``, ``Asz``: shear areas (Timoshenko beams).
 * XDMF time series: each time step is a load case.
 """
 
@@ -244,7 +245,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
 
     bar = cf("bar")
     props = {}
-    for name in SECTION_KEYS + ("Ip", "Iw", "fy"):
+    for name in SECTION_KEYS + ("Ip", "Iw", "fy", "Asy", "Asz"):
         a = tables.get(name)
         if a is None or np.isnan(a).all():
             a = cf(name) if name != "fy" else a
@@ -266,7 +267,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
         elif is_bar.any():
             props[name] = np.where(is_bar & ~np.isfinite(props[name]), 1.0, props[name])
     for name, a in props.items():
-        if a is not None and np.isnan(a).any() and name not in ("Iw", "fy"):
+        if a is not None and np.isnan(a).any() and name not in ("Iw", "fy", "Asy", "Asz"):
             raise InputError(f"field '{study.field_name(name)}' has no value for cell "
                              f"{cell_ids[np.flatnonzero(np.isnan(a))[0]]}", source=src)
 
@@ -315,13 +316,19 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
 
     frame = make_frame(mesh.points, elements, props["E"], props["G"], props["A"], props["Iy"],
                        props["Iz"], J, Ip=props["Ip"], orientation=orientation, bar=is_bar,
-                       restraint=restraint, parent=cell_ids, source=src, release=release)
+                       restraint=restraint, parent=cell_ids, source=src, release=release,
+                       Asy=_shear_area(props["Asy"]), Asz=_shear_area(props["Asz"]))
 
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
     extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member")}
     units = {"force": study.get("units", "force"), "length": study.get("units", "length")}
     return InputModel(frame, cases, mesh, cell_ids, n_cells, sets, units, notes, src, extra)
+
+
+def _shear_area(a):
+    """Shear area per element; cells without a value are rigid in shear (inf)."""
+    return None if a is None else np.where(np.isnan(a), np.inf, a)
 
 
 def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:

@@ -21,11 +21,11 @@ FIELD_DEFAULTS = {
     "J": "J", "Ip": "Ip", "Iw": "Iw", "orientation": "orientation", "bar": "bar",
     "restraint": "restraint", "member": "member",
     "release_start": "release_start", "release_end": "release_end",
-    "displacement": "displacement", "rotation": "rotation",
+    "displacement": "displacement", "rotation": "rotation", "Asy": "Asy", "Asz": "Asz",
 }
 
 _num = (int, float)
-_SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", "G")}
+_SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", "G", "Asy", "Asz")}
 
 #: Allowed keys: a dict is a table, a tuple of types a leaf, "TABLE_OF" a table
 #: whose keys are free (integer ids) and whose values follow the inner schema.
