@@ -34,7 +34,7 @@ def _as_study(study) -> Study:
 
 def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = None,
           planar: bool | str | None = None, method: str | None = None, progress=None,
-          preload=None, mesh_check=None) -> Result:
+          preload=None, mesh_check=None, moment_terms=None) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
     Parameters
@@ -49,6 +49,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.preload`
     mesh_check : ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
         sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.adequacy`
+    moment_terms : include the end-moment terms of the geometric stiffness when a case has end
+        moments (default True; study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -66,7 +68,9 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
 
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
     options = {"preload": _preload.parse(preload, st, im.cases, im.source),
-               "mesh_check": _adequacy.parse(mesh_check, st, im.source)}
+               "mesh_check": _adequacy.parse(mesh_check, st, im.source),
+               "moment_terms": bool(st.get("analysis", "moment_terms", default=True)
+                                    if moment_terms is None else moment_terms)}
     return run(im, k, m, pl, meth, progress=progress, options=options)
 
 
@@ -82,21 +86,22 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     check_supported(fine, cons, n_in, im.source)
     factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
     free = cons.free
+    geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
     pre = None
     if options.get("preload"):
         pname, pfac = options["preload"]
         pcase = next(c for c in im.cases if c.name == pname)
-        pre = _preload.prepare(pname, pfac, Kff, _case_geometric(asm, ref, pcase)[free][:, free], im.source)
+        pre = _preload.prepare(pname, pfac, Kff, geo(pcase)[free][:, free], im.source)
     cases = []
     v0 = None
     for case in im.cases:
         Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
         axial = ref.fine_axial(case.axial)
         scale = np.abs(axial).max() if axial.size else 0.0
-        if not (axial < -1e-12 * max(scale, 1e-300)).any():
+        if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
             cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
             continue
-        Gff = _case_geometric(asm, ref, case)[free][:, free]
+        Gff = geo(case)[free][:, free]
         er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
         if len(er.load_factors) == 0:
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
@@ -135,12 +140,32 @@ def _mesh_check_orders(im) -> dict:
     """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
     f = im.frame
     shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
-    return {c.name: _adequacy.ORDER_TWIST for c in im.cases if shear}
+    return {c.name: _adequacy.ORDER_TWIST for c in im.cases
+            if shear or c.extra.get("moments") is not None}
 
 
-def _case_geometric(asm, ref, case):
-    """Global geometric stiffness of one load case on the fine model."""
-    return asm.geometric(ref.fine_axial(case.axial))
+class _CaseGeometric:
+    """Global geometric stiffness of a load case on the fine model: axial terms, plus the
+    end-moment terms (framebuckle.moments) when the case has end moments and they are on."""
+
+    def __init__(self, asm, ref, moment_terms=True):
+        self.asm, self.ref, self.on, self._local = asm, ref, moment_terms, None
+
+    def has_moments(self, case) -> bool:
+        M = case.extra.get("moments")
+        return bool(self.on and M is not None and np.abs(M[:, [1, 2, 4, 5]]).max() > 0)
+
+    def __call__(self, case):
+        Kg = self.asm.geometric(self.ref.fine_axial(case.axial))
+        if self.has_moments(case):
+            from .elements import local_matrices
+            from .moments import fine_moments, moment_geometric_global
+            fine = self.ref.frame
+            if self._local is None:
+                self._local = local_matrices(fine)
+            Mf = fine_moments(self.ref, case.extra["moments"])
+            Kg = Kg + self.asm.matrix(moment_geometric_global(fine, Mf, self._local))
+        return Kg
 
 
 def _interior_cell(ref, im):

@@ -14,6 +14,8 @@ Input contract (default field names; a study file may rename them):
   and optional ``rotation`` (n, 3), or ``displacement.<case>`` /
   ``rotation.<case>``; forces recovered by :mod:`framebuckle.recover`.
 * optional cell fields ``Asy``, ``Asz``: shear areas (Timoshenko beams).
+* optional cell fields ``moment_start``, ``moment_end`` (or ``.<case>``): internal
+  end moments [T, My, Mz] in local axes, see :mod:`framebuckle.moments`.
 * XDMF time series: each time step is a load case.
 """
 
@@ -347,6 +349,8 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
             label = "default" if name == base else name[len(base) + 1:]
             cases.append(make_case(label, a, frame, src))
     cases = _recovered_cases(mesh, study, frame, src, steps, cases)
+    if not steps:
+        cases = _moment_cases(mesh, study, blocks, expand, frame, src, cases)
     if not cases:
         raise InputError(f"no axial force field: expected a cell field '{base}' or '{base}.<case>' "
                          f"(or point fields '{study.field_name('displacement')}'[.<case>]); "
@@ -390,6 +394,27 @@ def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
                                   + (f" and end moments from '{rname}'" if rname else "")]
                 out.append(LoadCase(c.name, c.axial, extra))
                 by_name[label] = len(out) - 1
+    return out
+
+
+def _moment_cases(mesh, study, blocks, expand, frame, src, cases) -> list[LoadCase]:
+    """Attach cell fields ``moment_start``/``moment_end`` (see :mod:`framebuckle.moments`) to cases."""
+    from .moments import read_moment_fields
+    fields = read_moment_fields(list(mesh.cell_data),
+                                lambda n: np.repeat(_cell_field(mesh, n, blocks, src, 3), expand, axis=0),
+                                study, frame.parent, src)
+    out = list(cases)
+    names = [c.name for c in out]
+    for suffix, M in fields.items():
+        label = suffix or "default"
+        extra = {"moments": M, "moments_from": "cell fields"}
+        if label in names:
+            i = names.index(label)
+            out[i] = LoadCase(out[i].name, out[i].axial, {**out[i].extra, **extra})
+        else:
+            c = make_case(label, 0.0, frame, src)
+            out.append(LoadCase(c.name, c.axial, {**extra, "notes": ["end moments only (no axial force)"]}))
+            names.append(label)
     return out
 
 

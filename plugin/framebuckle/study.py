@@ -22,6 +22,7 @@ FIELD_DEFAULTS = {
     "restraint": "restraint", "member": "member",
     "release_start": "release_start", "release_end": "release_end",
     "displacement": "displacement", "rotation": "rotation", "Asy": "Asy", "Asz": "Asz",
+    "moment_start": "moment_start", "moment_end": "moment_end",
 }
 
 _num = (int, float)
@@ -31,7 +32,8 @@ _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", 
 #: whose keys are free (integer ids) and whose values follow the inner schema.
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
-                 "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str)},
+                 "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
+                 "moment_terms": (bool,)},
     "units": {"force": (str,), "length": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
