@@ -133,8 +133,8 @@ class Factor:
     def pivots(self) -> tuple[np.ndarray, np.ndarray]:
         """(pivot, column) pairs of the factorization.
 
-        ``Pr A Pc = L U`` with ``Pc[i, perm_c[i]] = 1``: pivot ``k`` belongs to the
-        original column ``i`` with ``perm_c[i] = k``, i.e. ``argsort(perm_c)[k]``.
+        SuperLU factors ``Pr A Pc = L U``; ``U[j, j]`` belongs to column
+        ``argsort(perm_c)[j]`` of ``A`` (not ``perm_c[j]``).
         """
         return self.lu.U.diagonal(), np.argsort(self.lu.perm_c)
 
