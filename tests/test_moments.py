@@ -91,11 +91,13 @@ def test_moments_recovered_from_displacements_and_rotations():
     loads = np.zeros((n, 6)); loads[0, 4] = -M; loads[-1, 4] = M      # equal and opposite about Y
     u = static_solve(frame, loads)
     mesh = _beam(n - 1, 0, 0, field=False, extra_points={"displacement": u[:, :3], "rotation": u[:, 3:]})
-    res = fb.solve(mesh, subdivide=4)
+    auto = fb.solve(mesh, subdivide=4)
+    assert auto.cases[0].status == "no_compression"          # recovered moments: off unless asked
+    res = fb.solve(mesh, {"analysis": {"moment_terms": True}}, subdivide=4)
     Mrec = res.input.cases[0].extra["moments"]
     assert np.allclose(np.abs(Mrec[:, [1, 4]]), M, rtol=1e-8)          # uniform, statics
     assert res.cases[0].mesh_check["richardson"] * M == pytest.approx(MCR, rel=1e-3)
-    off = fb.solve(mesh, subdivide=4, moment_terms=False)
+    off = fb.solve(_beam(1, 1000.0, 1000.0), subdivide=4, moment_terms=False)
     assert off.cases[0].status == "no_compression"
 
 

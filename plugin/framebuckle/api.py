@@ -49,8 +49,9 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.preload`
     mesh_check : ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
         sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.adequacy`
-    moment_terms : include the end-moment terms of the geometric stiffness when a case has end
-        moments (default True; study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
+    moment_terms : ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
+        given as cell fields, not for moments recovered from rotations), ``True`` (both) or
+        ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -69,8 +70,7 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
     options = {"preload": _preload.parse(preload, st, im.cases, im.source),
                "mesh_check": _adequacy.parse(mesh_check, st, im.source),
-               "moment_terms": bool(st.get("analysis", "moment_terms", default=True)
-                                    if moment_terms is None else moment_terms)}
+               "moment_terms": _moment_setting(moment_terms, st, im.source)}
     return run(im, k, m, pl, meth, progress=progress, options=options)
 
 
@@ -111,6 +111,10 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         full = np.zeros((fine.n_dofs, er.modes.shape[1]))
         full[free] = er.modes
         notes = list(case.extra.get("notes", []))
+        if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
+            notes.append("end moments recovered from the rotations are not used in the geometric "
+                         "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "
+                         "include them (see the limits in the README)")
         if pre is not None:
             notes.append(pre.note() if case.name != pre.name else
                          "this case is the constant preload; its load factor is for the case alone")
@@ -141,7 +145,15 @@ def _mesh_check_orders(im) -> dict:
     f = im.frame
     shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
     return {c.name: _adequacy.ORDER_TWIST for c in im.cases
-            if shear or c.extra.get("moments") is not None}
+            if shear or c.extra.get("moments_from") == "cell fields"}
+
+
+def _moment_setting(value, st, source):
+    v = st.get("analysis", "moment_terms", default="auto") if value is None else value
+    if v not in (True, False, "auto"):
+        raise InputError(f"[analysis] moment_terms must be true, false or \"auto\", got {v!r}",
+                         source=st.source if value is None else source)
+    return v
 
 
 class _CaseGeometric:
@@ -153,7 +165,8 @@ class _CaseGeometric:
 
     def has_moments(self, case) -> bool:
         M = case.extra.get("moments")
-        return bool(self.on and M is not None and np.abs(M[:, [1, 2, 4, 5]]).max() > 0)
+        on = self.on is True or (self.on == "auto" and case.extra.get("moments_from") == "cell fields")
+        return bool(on and M is not None and np.abs(M[:, [1, 2, 4, 5]]).max() > 0)
 
     def __call__(self, case):
         Kg = self.asm.geometric(self.ref.fine_axial(case.axial))

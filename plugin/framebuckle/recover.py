@@ -28,7 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .elements import element_dofs, local_axes, local_matrices
+from .elements import local_axes
 from .errors import InputError
 from .model import Frame
 
@@ -42,11 +42,10 @@ def axial_from_elongation(frame: Frame, displacement: np.ndarray) -> np.ndarray:
 
 
 def element_end_forces(frame: Frame, displacements: np.ndarray) -> np.ndarray:
-    """End forces acting on each element in local axes, (e, 12): ``k T u_e`` for (n, 6) displacements."""
-    u = np.asarray(displacements, float)
-    Kl, _, T, _ = local_matrices(frame)
-    ue = u.reshape(-1)[element_dofs(frame)]
-    return np.einsum("eij,ejk,ek->ei", Kl, T, ue, optimize=True)
+    """End forces acting on each element in local axes, (e, 12): ``k T u_e`` for (n, 6) displacements
+    (:func:`framebuckle.static.member_forces` without member loads)."""
+    from .static import member_forces
+    return np.array(member_forces(frame, displacements).local)
 
 
 def end_moments(f_local: np.ndarray) -> np.ndarray:

@@ -33,7 +33,7 @@ _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", 
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
                  "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
-                 "moment_terms": (bool,)},
+                 "moment_terms": (bool, str)},
     "units": {"force": (str,), "length": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
