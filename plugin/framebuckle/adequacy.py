@@ -16,7 +16,9 @@ Finite Element Method, sec. 6.3).  This is the order of flexural buckling
 tests/test_adequacy.py).  Twist is
 interpolated linearly (k = 1, m = 1: :math:`h^2`), so cases whose geometric
 stiffness has moment terms (lateral-torsional buckling) use ``p = 2``, and so do
-models with shear areas: the shear parameter grows as the elements shrink and
+models with shear areas (with warping DOFs the twist is cubic and moment cases keep
+``p = 4``: measured errors 4.9e-3, 3.3e-4, 2.1e-5 at 2, 4, 8 sub-elements of a
+fork-supported I-beam under uniform moment).  For shear areas the shear parameter grows as the elements shrink and
 the measured order of the Timoshenko element is 2 (errors 0.95 %, 0.23 %,
 0.058 %, 0.015 % at 4, 8, 16, 32 sub-elements of a shear-flexible column).  The
 extrapolation is an estimate: the relative difference between the two solves

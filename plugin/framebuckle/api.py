@@ -8,6 +8,7 @@ import numpy as np
 
 from . import adequacy as _adequacy
 from . import preload as _preload
+from . import warping as _warping
 from .assemble import Assembler
 from .errors import InputError
 from .read import InputModel, read_input
@@ -34,7 +35,7 @@ def _as_study(study) -> Study:
 
 def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = None,
           planar: bool | str | None = None, method: str | None = None, progress=None,
-          preload=None, mesh_check=None, moment_terms=None) -> Result:
+          preload=None, mesh_check=None, moment_terms=None, warping=None) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
     Parameters
@@ -52,6 +53,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     moment_terms : ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
         given as cell fields, not for moments recovered from rotations), ``True`` (both) or
         ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
+    warping : ``"equivalent"`` (default) or ``"dof"``: a warping DOF for cells with ``Iw``
+        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.warping`
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -71,6 +74,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     options = {"preload": _preload.parse(preload, st, im.cases, im.source),
                "mesh_check": _adequacy.parse(mesh_check, st, im.source),
                "moment_terms": _moment_setting(moment_terms, st, im.source)}
+    if _warping.parse(warping, st, im.source) == "dof" and im.extra.get("Iw") is not None:
+        options["warping"] = _warping.restrained_points(im, st)
     return run(im, k, m, pl, meth, progress=progress, options=options)
 
 
@@ -78,12 +83,20 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     options = options or {}
     ref = _subdivide(im.frame, m)
     fine = ref.frame
-    asm = Assembler.build(fine)
-    K = asm.stiffness()
-    cons = find_constraints(fine, K, planar)
     n_in = im.frame.n_nodes
+    wrest = options.get("warping")
+    if wrest is None:
+        asm = Assembler.build(fine)
+        K = asm.stiffness()
+        cons = find_constraints(fine, K, planar)
+        check_supported(fine, cons, n_in, im.source)
+    else:                                   # warping DOFs (framebuckle.warping)
+        asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
+                                        ref.fine_axial(im.extra["J_raw"]),
+                                        np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
+        K = asm.stiffness()
+        cons = asm.constraints(fine, K, planar, n_in, im.source)
     coarse_cell = _interior_cell(ref, im)
-    check_supported(fine, cons, n_in, im.source)
     factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
     free = cons.free
     geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
@@ -108,8 +121,9 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                                     method=er.method))
             continue
         v0 = er.modes[:, 0]
-        full = np.zeros((fine.n_dofs, er.modes.shape[1]))
+        full = np.zeros((asm.n, er.modes.shape[1]))
         full[free] = er.modes
+        full = full[:fine.n_dofs]
         notes = list(case.extra.get("notes", []))
         if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
             notes.append("end moments recovered from the rotations are not used in the geometric "
@@ -131,21 +145,23 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     check = options.get("mesh_check", "auto")
     if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
         fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))
-        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im))
+        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None))
     notes = list(im.notes) + list(cons.notes)
+    if wrest is not None:
+        notes = [n for n in notes if not n.startswith("warping constant Iw given: torsion uses")]
     settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method,
-                "mesh_check": check}
+                "mesh_check": check, "warping": "equivalent" if wrest is None else "dof"}
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     return Result(im, ref, cons, cases, notes, settings)
 
 
-def _mesh_check_orders(im) -> dict:
+def _mesh_check_orders(im, warping_dofs=False) -> dict:
     """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
     f = im.frame
     shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
     return {c.name: _adequacy.ORDER_TWIST for c in im.cases
-            if shear or c.extra.get("moments_from") == "cell fields"}
+            if shear or (c.extra.get("moments") is not None and not warping_dofs)}
 
 
 def _moment_setting(value, st, source):
@@ -174,9 +190,11 @@ class _CaseGeometric:
             from .elements import local_matrices
             from .moments import fine_moments, moment_geometric_global
             fine = self.ref.frame
-            if self._local is None:
+            if self._local is None and not hasattr(self.asm, "moment_matrix"):
                 self._local = local_matrices(fine)
             Mf = fine_moments(self.ref, case.extra["moments"])
+            if hasattr(self.asm, "moment_matrix"):        # warping DOFs
+                return Kg + self.asm.moment_matrix(Mf)
             Kg = Kg + self.asm.matrix(moment_geometric_global(fine, Mf, self._local))
         return Kg
 

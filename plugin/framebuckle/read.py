@@ -329,7 +329,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
 
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
-    extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member")}
+    extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"]}
     units = {"force": study.get("units", "force"), "length": study.get("units", "length")}
     return InputModel(frame, cases, mesh, cell_ids, n_cells, sets, units, notes, src, extra)
 

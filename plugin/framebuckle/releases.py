@@ -49,7 +49,8 @@ SINGULAR_TOL = 1e-9
 
 
 def condensation(Kl: np.ndarray, release: np.ndarray, parent=None, source: str = "<model>") -> np.ndarray:
-    """Condensation matrices ``C`` (e, 12, 12) for local stiffnesses ``Kl`` and masks ``release`` (e, 12).
+    """Condensation matrices ``C`` (e, k, k) for local stiffnesses ``Kl`` and masks ``release`` (e, k)
+    (k = 12, or 14 for elements with warping DOFs).
 
     Raises :class:`ModelError` naming the cell when the released block is singular
     (e.g. the axial force or the torque released at both ends: a mechanism).
@@ -59,7 +60,7 @@ def condensation(Kl: np.ndarray, release: np.ndarray, parent=None, source: str =
     d = np.sqrt(np.abs(np.einsum("eii->ei", Kl)))
     d = np.where(d > 0, d, 1.0)
     Kn = Kl / d[:, :, None] / d[:, None, :]
-    eye = np.eye(12)[None]
+    eye = np.eye(Kl.shape[1])[None]
     An = D[:, :, None] * Kn * D[:, None, :] + eye * P[:, None, :]
     low = np.linalg.eigvalsh(An)[:, 0]
     bad = np.flatnonzero(low < SINGULAR_TOL)

@@ -23,6 +23,7 @@ FIELD_DEFAULTS = {
     "release_start": "release_start", "release_end": "release_end",
     "displacement": "displacement", "rotation": "rotation", "Asy": "Asy", "Asz": "Asz",
     "moment_start": "moment_start", "moment_end": "moment_end",
+    "warping_restraint": "warping_restraint",
 }
 
 _num = (int, float)
@@ -33,7 +34,8 @@ _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", 
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
                  "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
-                 "moment_terms": (bool, str)},
+                 "moment_terms": (bool, str), "warping": (str,)},
+    "warping": {"supports": (str,), "points": (list,)},
     "units": {"force": (str,), "length": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
