@@ -106,3 +106,34 @@ def test_missing_end_field_is_refused():
     del mesh.cell_data["moment_end"]
     with pytest.raises(fb.InputError, match="'moment_start' is given but 'moment_end' is not"):
         fb.solve(mesh)
+
+
+def test_moment_about_local_z_same_as_about_local_y():
+    # the same beam with its local axes turned by 90 degrees (orientation = global Y): the strong
+    # axis is now local z and the moment is Mz; M_cr must not change (Timoshenko & Gere 1961, sec. 6.2)
+    m = _beam(1, 1000.0, 1000.0)
+    m.cell_data["Iy"], m.cell_data["Iz"] = [np.array([IZ])], [np.array([IY])]
+    m.cell_data["orientation"] = [np.array([[0.0, 1.0, 0.0]])]
+    m.cell_data["moment_start"] = [np.array([[0.0, 0.0, 1000.0]])]
+    m.cell_data["moment_end"] = [np.array([[0.0, 0.0, 1000.0]])]
+    turned = fb.solve(m, subdivide=8).cases[0]
+    plain = fb.solve(_beam(1, 1000.0, 1000.0), subdivide=8).cases[0]
+    assert turned.alpha_cr == pytest.approx(plain.alpha_cr, rel=1e-10)
+    assert turned.mesh_check["richardson"] * 1000.0 == pytest.approx(MCR, rel=1e-5)
+
+
+def test_beam_column_axial_force_and_uniform_moment():
+    # lateral-torsional buckling of a doubly symmetric simply supported beam-column under P and M:
+    # M^2 = r0^2 (P_z - P) (P_T - P), r0^2 = Ip / A, P_T = G J / r0^2 (Timoshenko & Gere 1961, ch. 6;
+    # Trahair 1993, Flexural-Torsional Buckling of Structures, ch. 7; sections from memory).
+    # Both scale with the load factor: lam^2 M^2 = r0^2 (Pz - lam P)(PT - lam P).
+    r02 = (IY + IZ) / A
+    pz = math.pi ** 2 * E * IZ / L ** 2
+    pt = G * J / r02
+    P, M = 0.3 * pz, 0.5 * MCR
+    a, b, c = M ** 2 - r02 * P ** 2, r02 * P * (pz + pt), -r02 * pz * pt
+    lam = (-b + math.sqrt(b * b - 4 * a * c)) / (2 * a)
+    mesh = _beam(1, M, M)
+    mesh.cell_data["axial_force"] = [np.array([-P])]
+    res = fb.solve(mesh, subdivide=16)
+    assert res.cases[0].mesh_check["richardson"] == pytest.approx(lam, rel=1e-4)
