@@ -18,6 +18,7 @@ import scipy.linalg as sla
 from scipy.spatial.transform import Rotation
 
 import framebuckle as fb
+from framebuckle.api import DEFAULT_SUBDIVIDE
 from framebuckle.assemble import Assembler
 from framebuckle.read import read_input
 from framebuckle.refine import subdivide
@@ -26,7 +27,7 @@ from framebuckle.solve import find_constraints
 from refmodels import FIXED, FREE, line_mesh, frame3d
 
 
-def dense_load_factors(mesh, m=4, k=None, case=0):
+def dense_load_factors(mesh, m=DEFAULT_SUBDIVIDE, k=None, case=0):
     """Lowest positive load factors of the same pencil by scipy.linalg.eigh (dense)."""
     im = read_input(mesh)
     ref = subdivide(im.frame, m)

@@ -18,7 +18,7 @@ from .solve import buckling_modes, check_supported, factorize, find_constraints
 from .study import Study, load_study, study_from_dict
 
 DEFAULT_MODES = 4
-DEFAULT_SUBDIVIDE = 4
+DEFAULT_SUBDIVIDE = 8
 #: share of a mode's geometric work done by the twist term above which it is a torsional mode
 TORSION_SHARE = 0.8
 
@@ -43,7 +43,7 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     inp : path, ``meshio.Mesh`` or :class:`~framebuckle.read.InputModel`
     study : path of a TOML study file, a dict of the same content, or a Study
     modes : number of load factors per case (default 4)
-    subdivide : sub-elements per beam cell (default 4)
+    subdivide : sub-elements per beam cell (default 8)
     planar : ``"auto"`` (default), ``True`` or ``False``
     method : eigensolver: ``"auto"``, ``"dense"`` or ``"arpack"``
     preload : name of a load case held constant while the others are scaled, or

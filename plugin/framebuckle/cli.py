@@ -1,6 +1,7 @@
-"""Command line: ``framebuckle solve INPUT [--study F] [--modes N] [--subdivide M] [--out DIR]``.
+"""Command line: ``framebuckle solve INPUT ...`` and ``framebuckle check INPUT ... [--min-alpha X] [--json]``.
 
-Exit codes: 0 done, 2 bad input or a model that cannot be solved (message, no traceback).
+Exit codes: 0 done (check: every case passes), 1 (check only) a case fails, 2 bad input or a model
+that cannot be solved (message, no traceback).
 """
 
 from __future__ import annotations
@@ -33,14 +34,31 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("solve", help="load factors and modes of every load case")
     _common(s)
     s.set_defaults(func=cmd_solve)
+    c = sub.add_parser("check", help="load factors, effective lengths, participation, stiffening advice, "
+                                     "code verdicts and an imperfection; exit 1 when a case fails")
+    _common(c)
+    c.add_argument("--min-alpha", type=_positive_float, dest="min_alpha",
+                   help="alpha_cr every case must reach (default: EN 1993-1-1 5.2.1(3) limit, 10 elastic)")
+    c.add_argument("--json", action="store_true", help="print the summary as JSON on stdout")
+    c.set_defaults(func=cmd_check)
     return p
+
+
+def _positive_float(text):
+    try:
+        v = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number, got {text!r}") from None
+    if not v > 0 or v == float("inf"):
+        raise argparse.ArgumentTypeError(f"must be a positive number, got {text}")
+    return v
 
 
 def _common(s):
     s.add_argument("input", help="mesh file (VTU, XDMF, Gmsh MSH, or any format meshio reads)")
     s.add_argument("--study", help="study file (TOML)")
     s.add_argument("--modes", type=_positive_int, help="load factors per case (default 4)")
-    s.add_argument("--subdivide", type=_positive_int, help="sub-elements per beam cell (default 4)")
+    s.add_argument("--subdivide", type=_positive_int, help="sub-elements per beam cell (default 8)")
     s.add_argument("--out", default="framebuckle_out", help="output folder (default ./framebuckle_out)")
     s.add_argument("--force", action="store_true", help="replace existing outputs")
 
@@ -79,6 +97,44 @@ def cmd_solve(args) -> int:
     paths = write_result(result, Path(args.out), force=args.force)
     print_result(result, paths)
     return 0
+
+
+def cmd_check(args) -> int:
+    """Exit 0 when every case passes, 1 when any fails (2 on bad input, from main)."""
+    import json
+
+    from .api import _as_study, solve
+    from .check import format_table, run_check, write_check
+    from .write import _jsonable
+    study = _as_study(args.study)
+    result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide)
+    report = run_check(result, study, args.min_alpha)
+    paths = write_check(result, report, Path(args.out), force=args.force)
+    if args.json:
+        json.dump(report.summary, sys.stdout, indent=2, default=_jsonable)
+        print()
+        return report.exit_code
+    s = report.summary
+    m = s["model"]
+    print(f"{result.input.source}: {m['nodes']} points, {m['elements']} members "
+          f"({s['check']['members']['count']} grouped), {m['dofs']} DOFs after sub-division")
+    for n in s["notes"]:
+        print(f"note: {n}")
+    print(format_table(report))
+    for c in s["cases"]:
+        for n in c["notes"]:
+            print(f"note [{c['name']}]: {n}")
+    imp = s["check"]["imperfection"]
+    if imp and imp.get("skipped"):
+        print(f"imperfection: {imp['note']}")
+    elif imp:
+        print(f"imperfection: case {imp['case']} mode {imp['mode']}, largest translation "
+              f"{imp['amplitude']:.4g} ({imp['formula']})")
+    print(f"minimum alpha_cr {s['check']['min_alpha']:g} ({s['check']['min_alpha_from']}): "
+          f"{'all cases pass' if report.passed else 'FAILED'}")
+    print("wrote: " + ", ".join(str(p) for p in paths.values()))
+    print("caution: " + " ".join(CAUTIONS))
+    return report.exit_code
 
 
 def main(argv=None) -> int:
