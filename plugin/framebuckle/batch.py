@@ -139,7 +139,7 @@ def run_batch(inputs, study=None, *, scheduler: str | None = None, client=None,
 
     ``client``: an existing ``distributed.Client`` (else one is made from
     ``scheduler`` or a new local cluster).  ``on_row(rows)`` is called as each
-    file finishes; ``progress.count(done, total)`` reports progress.
+    file finishes; ``progress(name)`` is called likewise (e.g. a :class:`~framebuckle.progress.Progress`).
     """
     files = expand_inputs(inputs)
     if not files:
@@ -158,7 +158,6 @@ def run_batch(inputs, study=None, *, scheduler: str | None = None, client=None,
                              study=study, modes=modes, subdivide=subdivide, pure=False)
         index = {f.key: i for i, f in enumerate(futures)}
         out: list = [None] * len(files)
-        done = 0
         for fut in as_completed(futures):
             i = index[fut.key]
             try:
@@ -170,9 +169,8 @@ def run_batch(inputs, study=None, *, scheduler: str | None = None, client=None,
             for r in rows:
                 r["file"] = files[i]
             out[i] = rows
-            done += 1
             if progress is not None:
-                progress.count(done, len(files), "files")
+                progress(os.path.basename(files[i]))
             if on_row is not None:
                 on_row(rows)
         return [r for rows in out for r in rows]

@@ -26,6 +26,7 @@ class CaseResult:
     cluster_continues: bool = False
     method: str = ""
     notes: list = field(default_factory=list)
+    mesh_check: dict | None = None   # see framebuckle.adequacy
 
     @property
     def alpha_cr(self) -> float | None:
@@ -89,6 +90,7 @@ class Result:
                 "max_residual": float(c.residuals.max()) if len(c.residuals) else None,
                 "eigensolver": c.method,
                 "notes": list(c.notes) + ([c.message()] if c.message() else []),
+                "mesh_check": None if c.mesh_check is None else dict(c.mesh_check),
             } for c in self.cases],
             "model": {"nodes": int(self.input.frame.n_nodes), "elements": int(self.input.frame.n_elements),
                       "dofs": int(f.n_dofs), "free_dofs": int(len(self.constraints.free)),
