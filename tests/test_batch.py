@@ -91,7 +91,7 @@ def test_batch_table_and_failed_file(tmp_path, cluster):
 
 def test_killing_a_worker_loses_no_result(tmp_path, cluster):
     cl, client = cluster
-    files, _ = make_inputs(tmp_path, 8)
+    files, _ = make_inputs(tmp_path, 10)
     killed = []
 
     def kill_one(rows):
@@ -105,7 +105,7 @@ def test_killing_a_worker_loses_no_result(tmp_path, cluster):
         os.kill(pid, signal.SIGKILL)                # a worker dies in the middle of a file
         killed.append(keys)
 
-    rows = run_batch(files, client=client, subdivide=16, modes=2, on_row=kill_one)
+    rows = run_batch(files, client=client, subdivide=4, modes=2, on_row=kill_one)
     assert killed and killed[0]                     # a worker was killed while it had work
     assert len(rows) == 2 * len(files)
     check_rows(rows, files)

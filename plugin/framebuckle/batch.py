@@ -10,7 +10,11 @@ tasks again elsewhere.  A file that fails gives a row with its error; the others
 go on.
 
 Columns of the table (``batch.csv`` and ``batch.json``): ``file``, ``case``,
-``alpha_cr``, ``verdict``, ``governing_member``, ``status``, ``error``.
+``alpha_cr``, ``verdict`` ("pass"/"fail" and the short code verdicts of the
+``check`` stage, with the study's ``[checks]`` settings; "n/a" when the check
+could not be made), ``governing_member`` (first member carrying mode 1, from the
+check stage; else the member doing most geometric work in mode 1), ``status``,
+``error``.
 """
 
 from __future__ import annotations
@@ -71,35 +75,47 @@ def governing_member(result, case) -> object:
     return cell
 
 
-def _verdict(result, case):
-    """The verdict of a case when a verdict module is available, else "n/a"."""
+def _check(result, study):
+    """The ``check`` stage's report (verdicts, governing members), or None if it fails."""
     try:
-        from . import verdict as vmod          # provided by the engineering-results stage
+        from .check import run_check
     except ImportError:
-        return NOT_AVAILABLE
-    fn = getattr(vmod, "case_verdict", None) or getattr(vmod, "verdict", None)
-    if fn is None:
-        return NOT_AVAILABLE
+        return None
     try:
-        v = fn(result, case)
+        return run_check(result, study)
     except Exception:                           # a verdict must never sink the batch
+        return None
+
+
+def _verdict(entry) -> str:
+    """"pass"/"fail" of a case (alpha_cr gate and code verdicts of the check stage) and the
+    short verdict text; "n/a" when no check was made."""
+    if not entry or "passed" not in entry:
         return NOT_AVAILABLE
-    return v if isinstance(v, (str, int, float)) or v is None else str(v)
+    from .check import _verdict_short
+    short = _verdict_short(entry.get("verdicts", []))
+    return ("pass" if entry["passed"] else "fail") + (f" ({short})" if short else "")
 
 
 def run_file(path: str, study=None, modes: int | None = None, subdivide: int | None = None) -> list[dict]:
     """Solve one file; return one row per case, or one error row (never raises)."""
-    from .api import solve
+    from .api import _as_study, solve
     try:
-        res = solve(path, study, modes=modes, subdivide=subdivide)
+        st = _as_study(study)
+        res = solve(path, st, modes=modes, subdivide=subdivide)
+        report = _check(res, st)
+        entries = {e["name"]: e for e in report.summary["cases"]} if report is not None else {}
         rows = []
         for c in res.cases:
-            try:
-                gov = governing_member(res, c.name)
-            except Exception:
-                gov = None
+            e = entries.get(c.name, {})
+            gov = (e.get("governing_members") or [None])[0]
+            if gov is None:
+                try:
+                    gov = governing_member(res, c.name)
+                except Exception:
+                    gov = None
             rows.append({"file": str(path), "case": c.name, "alpha_cr": c.alpha_cr,
-                         "verdict": _verdict(res, c.name), "governing_member": gov,
+                         "verdict": _verdict(e), "governing_member": gov,
                          "status": c.status, "error": ""})
         return rows
     except FrameBuckleError as exc:

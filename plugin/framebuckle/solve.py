@@ -307,7 +307,7 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             pos = theta > max(theta.max(), 0.0) * 1e-9
             KX = Kff @ X[:, pos]
             r = np.linalg.norm(KX - (Gff @ X[:, pos]) * (-1.0 / theta[pos]), axis=0)
-            return bool((r <= 0.5 * RESIDUAL_TOL * np.maximum(np.linalg.norm(KX, axis=0), 1e-300)).all())
+            return bool((r <= RESIDUAL_TOL * np.maximum(np.linalg.norm(KX, axis=0), 1e-300)).all())
         br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL, accept=accept)
         if not br.converged:
             bad = int(np.argmax(br.residuals >= BLOCK_TOL))
