@@ -60,7 +60,7 @@ def main(path, modes=10, limit=3600.0):
     el = m.cells[0].data
     cd = {k: np.asarray(v[0]) for k, v in m.cell_data.items()}
     case = sorted(k for k in cd if k.startswith("axial_force"))[0]
-    # sub-divide beams into 4 (bars stay whole)
+    # sub-divide beams into 8 like the tool's default (bars stay whole)
     nodes = list(pts)
     elems, src = [], []
     for i, (a, b) in enumerate(el):
@@ -68,10 +68,10 @@ def main(path, modes=10, limit=3600.0):
             elems.append((a, b)); src.append(i)
             continue
         chain = [a]
-        for t in (0.25, 0.5, 0.75):
+        for t in np.arange(1, 8) / 8:
             nodes.append(pts[a] + t * (pts[b] - pts[a])); chain.append(len(nodes) - 1)
         chain.append(b)
-        for j in range(4):
+        for j in range(8):
             elems.append((chain[j], chain[j + 1])); src.append(i)
     nodes = np.array(nodes)
     n = 6 * len(nodes)

@@ -10,7 +10,7 @@ beams and bracing carry no axial force.  A second load case adds 10 % to the
 storey loads of one half of the plan (a neighbouring combination).
 
 Usage: ``python benchmarks/building.py DOFS OUT.vtu`` writes a mesh whose model
-has about ``DOFS`` degrees of freedom after the default sub-division (4).
+has about ``DOFS`` degrees of freedom after the default sub-division (8).
 """
 
 from __future__ import annotations
@@ -29,7 +29,7 @@ CHS140 = (26.4e-4, 589e-8, 589e-8, 1178e-8, 0.0)
 BAY, STOREY, FLOOR_LOAD = 6.0, 3.5, 8e3          # m, m, N/m2
 
 
-def plan(dofs: float, subdivide: int = 4) -> tuple[int, int, int]:
+def plan(dofs: float, subdivide: int = 8) -> tuple[int, int, int]:
     """Bays (nx, ny) and storeys nz giving about ``dofs`` DOFs after sub-division."""
     # per grid point and storey: 1 column + ~2 beams, each with (subdivide-1) interior nodes
     per = 6 * (1 + 3 * (subdivide - 1))
@@ -86,7 +86,7 @@ def building(nx: int, ny: int, nz: int) -> meshio.Mesh:
     return meshio.Mesh(pts, [("line", lines)], point_data={"restraint": restraint}, cell_data=cd)
 
 
-def write(dofs: float, path: str, subdivide: int = 4) -> tuple[int, int, int]:
+def write(dofs: float, path: str, subdivide: int = 8) -> tuple[int, int, int]:
     nx, ny, nz = plan(dofs, subdivide)
     meshio.write(path, building(nx, ny, nz), binary=True, compression=None)
     return nx, ny, nz
