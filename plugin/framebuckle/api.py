@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
+from . import sanity, verify
 from .assemble import Assembler
-from .errors import InputError
+from .errors import InputError, ModelError
 from .read import InputModel, read_input
 from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
@@ -67,11 +69,20 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
     asm = Assembler.build(fine)
     K = asm.stiffness()
     cons = find_constraints(fine, K, planar)
+    cons = _ignore_unused(cons, fine)
     n_in = im.frame.n_nodes
     coarse_cell = _interior_cell(ref, im)
-    check_supported(fine, cons, n_in, im.source)
-    factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
+    warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
+    try:
+        check_supported(fine, cons, n_in, im.source)
+        factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
+    except ModelError as exc:
+        hint = sanity.coincident_warnings(im.frame)
+        if not hint:
+            raise
+        raise ModelError(f"{exc}. Also: {hint[0]}") from None
     free = cons.free
+    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell)[0]
     cases = []
     v0 = None
     for case in im.cases:
@@ -82,6 +93,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
             continue
         Gff = asm.geometric(axial)[free][:, free]
         er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+        checks = verify.check_case(Kff, Gff, er, k, im.source, case.name)
         if len(er.load_factors) == 0:
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                     method=er.method))
@@ -97,12 +109,23 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
                          f"continues past the requested modes (ask for more with --modes)")
         notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
         cases.append(CaseResult(case.name, "ok", er.load_factors, normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max())),
-                                er.residuals, er.cluster_continues, er.method, notes))
+                                er.residuals, er.cluster_continues, er.method, notes, checks))
         if progress:
             progress(case.name)
     notes = list(im.notes) + list(cons.notes)
     settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method}
-    return Result(im, ref, cons, cases, notes, settings)
+    return Result(im, ref, cons, cases, notes, settings, warnings)
+
+
+def _ignore_unused(cons, fine):
+    """Fix every DOF of points no member uses (they carry no stiffness and no load)."""
+    unused = sanity.unused_points(fine)
+    if unused.size == 0:
+        return cons
+    fixed = cons.fixed.copy()
+    fixed.reshape(-1, 6)[unused] = True
+    note = (f"{unused.size} point(s) used by no member were ignored (first: point {int(unused[0])})",)
+    return replace(cons, fixed=fixed, free=np.flatnonzero(~fixed), notes=tuple(cons.notes) + note)
 
 
 def _interior_cell(ref, im):

@@ -63,6 +63,8 @@ def print_result(result, paths, stream=sys.stdout):
           f"{m['dofs']} DOFs after sub-division ({m['free_dofs']} free)", file=stream)
     for n in s["notes"]:
         print(f"note: {n}", file=stream)
+    for w in getattr(result, "warnings", ()):
+        print(f"framebuckle: warning: {w}", file=sys.stderr)
     print(_fmt_table(result), file=stream)
     for c in result.cases:
         for n in c.notes:

@@ -26,6 +26,7 @@ class CaseResult:
     cluster_continues: bool = False
     method: str = ""
     notes: list = field(default_factory=list)
+    checks: dict = field(default_factory=dict)   # verify.check_case: residuals, Sturm count, ...
 
     @property
     def alpha_cr(self) -> float | None:
@@ -47,6 +48,7 @@ class Result:
     cases: list
     notes: list
     settings: dict
+    warnings: list = field(default_factory=list)   # sanity / conditioning warnings
 
     @property
     def model(self):
@@ -88,6 +90,7 @@ class Result:
                 "max_residual": float(c.residuals.max()) if len(c.residuals) else None,
                 "eigensolver": c.method,
                 "notes": list(c.notes) + ([c.message()] if c.message() else []),
+                "checks": dict(c.checks),
             } for c in self.cases],
             "model": {"nodes": int(self.input.frame.n_nodes), "elements": int(self.input.frame.n_elements),
                       "dofs": int(f.n_dofs), "free_dofs": int(len(self.constraints.free)),
@@ -98,6 +101,7 @@ class Result:
             "settings": dict(self.settings),
             "units": dict(self.input.units),
             "notes": list(self.notes),
+            "warnings": list(self.warnings),
             "cautions": list(CAUTIONS),
         }
 
