@@ -6,6 +6,7 @@ Exit codes: 0 done, 2 bad input or a model that cannot be solved (message, no tr
 from __future__ import annotations
 
 import argparse
+import signal
 import sys
 from pathlib import Path
 
@@ -83,9 +84,17 @@ def cmd_solve(args) -> int:
     return 0
 
 
+def _terminate(signum, frame):
+    raise KeyboardInterrupt   # SIGTERM: unwind like Ctrl-C so temporary outputs are removed
+
+
 def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    try:
+        signal.signal(signal.SIGTERM, _terminate)
+    except ValueError:        # not in the main thread (embedded use): keep the default
+        pass
     try:
         return int(args.func(args) or 0)
     except FrameBuckleError as exc:
