@@ -9,7 +9,7 @@ import numpy as np
 
 from . import sanity, verify
 from .assemble import Assembler
-from .errors import InputError, ModelError
+from .errors import InputError, ModelError, SolverError
 from .read import InputModel, read_input
 from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
@@ -82,7 +82,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
             raise
         raise ModelError(f"{exc}. Also: {hint[0]}") from None
     free = cons.free
-    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell)[0]
+    weak = verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
+    warnings += weak
     cases = []
     v0 = None
     for case in im.cases:
@@ -92,8 +93,13 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
             cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
             continue
         Gff = asm.geometric(axial)[free][:, free]
-        er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
-        checks = verify.check_case(Kff, Gff, er, k, im.source, case.name)
+        try:
+            er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+            checks = verify.check_case(Kff, Gff, er, k, im.source, case.name)
+        except SolverError as exc:
+            if not weak:
+                raise
+            raise SolverError(f"{exc}; {weak[0]}") from None
         if len(er.load_factors) == 0:
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                     method=er.method))

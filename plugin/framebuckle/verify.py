@@ -62,7 +62,7 @@ DENSE_STURM = 1500
 #: free DOFs up to which the dense LDL^T is the fall-back of the sparse one
 DENSE_FALLBACK = 5000
 #: condition-number estimate of K above which a warning is given
-COND_WARN = 1e12
+COND_WARN = 1e11
 
 
 # ------------------------------------------------------------------ inertia
@@ -192,8 +192,16 @@ def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
     return rec
 
 
-def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, limit: int = 5) -> tuple[list, float]:
-    """Warn when K is near-singular; name the DOFs with the smallest relative pivots."""
+def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=None,
+                       limit: int = 5) -> tuple[list, float]:
+    r"""Warn when K is near-singular; name the DOFs and cells of its softest deformation.
+
+    The softest deformation is the eigenvector of the smallest eigenvalue of
+    :math:`K`, found by a few steps of inverse iteration with the existing
+    factorization; its DOFs are ranked by :math:`|x_i|\sqrt{K_{ii}}` (their share
+    of the strain energy) and, given the assembler ``asm``, its cells by their
+    strain energy :math:`u_e^T K_e u_e`.
+    """
     n = Kff.shape[0]
     if n == 0:
         return [], 1.0
@@ -206,14 +214,14 @@ def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, limit:
     cond = float(spla.norm(Kff, 1) * inv_norm)
     if not np.isfinite(cond) or cond <= COND_WARN:
         return [], cond
-    piv, cols = factor.pivots()
-    d = np.abs(Kff.diagonal())
-    ratio = np.abs(piv) / np.maximum(d[cols], 1e-300)
-    weakest = cols[np.argsort(ratio)[:limit]]
+    x = np.random.default_rng(0).standard_normal(n)
+    for _ in range(8):
+        x = factor.solve(x)
+        x /= np.linalg.norm(x)
+    share = np.abs(x) * np.sqrt(np.abs(Kff.diagonal()))
     names = []
-    for c in weakest:
-        g = int(free[c])
-        node, comp = divmod(g, 6)
+    for c in np.argsort(share)[::-1][:limit]:
+        node, comp = divmod(int(free[c]), 6)
         if node < n_input:
             where = f"point {node}"
         elif coarse_cell is not None:
@@ -221,6 +229,19 @@ def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, limit:
         else:
             where = f"sub-division point {node}"
         names.append(f"{where} {DOF_NAMES[comp]}")
+    cells = ""
+    if asm is not None:
+        from .elements import element_dofs
+        u = np.zeros(asm.n)
+        u[free] = x
+        ue = u[element_dofs(asm.frame)]
+        energy = np.einsum("ei,eij,ej->e", ue, asm.Ke, ue)
+        per_cell = np.bincount(asm.frame.parent, weights=energy)
+        top = np.argsort(per_cell)[::-1]
+        top = top[per_cell[top] >= 0.1 * per_cell.sum()][:limit]
+        if top.size:
+            cells = f" The softest deformation strains mostly cell(s) {', '.join(str(int(c)) for c in top)}."
     return [f"the stiffness matrix is near-singular (condition number about {cond:.1e}); results may "
-            f"be inaccurate. Weakest DOFs: {', '.join(names)}. Probable cause: a member far softer "
-            f"than its neighbours, a nearly-collinear bracing, or a near-mechanism"], cond
+            f"be inaccurate. Weakest DOFs: {', '.join(dict.fromkeys(names))}.{cells} Probable cause: "
+            f"a member far softer than its neighbours, a nearly-collinear bracing, or a "
+            f"near-mechanism"], cond
