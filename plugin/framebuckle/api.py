@@ -77,10 +77,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
         check_supported(fine, cons, n_in, im.source)
         factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
     except ModelError as exc:
-        hint = sanity.coincident_warnings(im.frame)
-        if not hint:
-            raise
-        raise ModelError(f"{exc}. Also: {hint[0]}") from None
+        raise _explained(exc, warnings) from None
     free = cons.free
     weak = verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
     warnings += weak
@@ -97,9 +94,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
             er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
             checks = verify.check_case(Kff, Gff, er, k, im.source, case.name)
         except SolverError as exc:
-            if not weak:
-                raise
-            raise SolverError(f"{exc}; {weak[0]}") from None
+            raise _explained(exc, weak + warnings) from None
         if len(er.load_factors) == 0:
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                     method=er.method))
@@ -121,6 +116,13 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
     notes = list(im.notes) + list(cons.notes)
     settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method}
     return Result(im, ref, cons, cases, notes, settings, warnings)
+
+
+def _explained(exc, warnings):
+    """The same error with the plausibility warnings that may explain it appended."""
+    if not warnings:
+        return exc
+    return type(exc)(str(exc) + "".join(f"\n  possible reason: {w}" for w in warnings))
 
 
 def _ignore_unused(cons, fine):
