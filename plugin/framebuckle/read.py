@@ -143,6 +143,8 @@ def point_sets(mesh) -> dict:
     """Named point sets: meshio cell sets and Gmsh physical groups of any cell type."""
     sets: dict[str, set] = {}
     for name, per_block in (mesh.cell_sets or {}).items():
+        if name.startswith("gmsh:"):      # meshio's bookkeeping, not a user set
+            continue
         s = sets.setdefault(name, set())
         for b, idx in enumerate(per_block):
             if idx is None or len(idx) == 0 or b >= len(mesh.cells):
@@ -151,9 +153,13 @@ def point_sets(mesh) -> dict:
     phys = mesh.cell_data.get("gmsh:physical")
     if phys is not None and mesh.field_data:
         for name, val in mesh.field_data.items():
-            tag = int(np.asarray(val).ravel()[0])
+            val = np.asarray(val).ravel()
+            tag = int(val[0])
+            dim = int(val[1]) if val.size > 1 else None   # Gmsh physical tags are per dimension
             s = set()
             for b, block in enumerate(mesh.cells):
+                if dim is not None and block.dim != dim:
+                    continue
                 hit = np.asarray(phys[b]).ravel() == tag
                 if hit.any():
                     s.update(np.asarray(block.data)[hit].ravel().tolist())

@@ -131,8 +131,12 @@ class Factor:
         return self.lu.solve(np.asarray(b, dtype=float))
 
     def pivots(self) -> tuple[np.ndarray, np.ndarray]:
-        """(pivot, column) pairs of the factorization."""
-        return self.lu.U.diagonal(), self.lu.perm_c
+        """(pivot, column) pairs of the factorization.
+
+        SuperLU factors ``Pr A Pc = L U``; ``U[j, j]`` belongs to column
+        ``argsort(perm_c)[j]`` of ``A`` (not ``perm_c[j]``).
+        """
+        return self.lu.U.diagonal(), np.argsort(self.lu.perm_c)
 
 
 def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, source: str,
