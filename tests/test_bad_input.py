@@ -233,7 +233,7 @@ def mechanism(t):
     r = np.zeros((2, 6))
     r[0, :3] = 1
     return [_vtu(t, mesh_from(pts, np.array([[0, 1]]), np.array([-1e5]), r))], \
-        ["model.vtu", "mechanism", "Free DOFs: point 0", "Probable cause"], []
+        ["model.vtu", "mechanism", "Free DOFs: ", "cell 0", "Probable cause"], []
 
 
 def bar_chain_mechanism(t):
