@@ -58,11 +58,19 @@ STURM_GAP = 1e-4
 #: when fewer modes than requested exist, no load factor may lie below this times the highest
 STURM_FAR = 1e3
 #: free DOFs up to which the Sturm count uses the dense LDL^T factorization
-DENSE_STURM = 1500
+DENSE_STURM = 300
 #: free DOFs up to which the dense LDL^T is the fall-back of the sparse one
-DENSE_FALLBACK = 5000
+DENSE_FALLBACK = 2000
 #: condition-number estimate of K above which a warning is given
 COND_WARN = 1e11
+
+
+#: free DOFs up to which a case whose iterative solution missed load factors is solved again densely
+DENSE_RETRY = 1500
+
+
+class MissedLoadFactor(SolverError):
+    """The Sturm count shows load factors the eigensolver did not return."""
 
 
 # ------------------------------------------------------------------ inertia
@@ -173,7 +181,7 @@ def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
     if n_hi == len(lam):
         return rec
     if not complete:
-        raise SolverError(f"{where}: the eigensolver returned {len(lam)} of the {k} requested load "
+        raise MissedLoadFactor(f"{where}: the eigensolver returned {len(lam)} of the {k} requested load "
                           f"factors, but the Sturm sequence count finds {n_hi} below {sigma:.6g}: "
                           f"modes were missed (not converged)", source=source)
     # more below sigma than reported: are they above the top value (a near-repeated
@@ -183,7 +191,7 @@ def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
     expect_lo = int((lam < lo).sum())
     rec.update({"sturm_shift_low": lo, "sturm_count_low": n_lo})
     if n_lo is not None and n_lo > expect_lo:
-        raise SolverError(f"{where}: the Sturm sequence count finds {n_lo} load factor(s) below "
+        raise MissedLoadFactor(f"{where}: the Sturm sequence count finds {n_lo} load factor(s) below "
                           f"{lo:.6g} but only {expect_lo} were reported there: the eigensolver "
                           f"missed a load factor; the result is refused", source=source)
     rec["sturm_note"] = (f"{n_hi - len(lam)} more load factor(s) lie within "
