@@ -7,7 +7,10 @@ from pathlib import Path
 
 import numpy as np
 
+from . import adequacy as _adequacy
 from . import sanity, verify
+from . import preload as _preload
+from . import warping as _warping
 from .assemble import Assembler
 from .errors import InputError, ModelError, SolverError
 from .read import InputModel, read_input
@@ -17,7 +20,7 @@ from .solve import buckling_modes, check_supported, factorize, find_constraints
 from .study import Study, load_study, study_from_dict
 
 DEFAULT_MODES = 4
-DEFAULT_SUBDIVIDE = 4
+DEFAULT_SUBDIVIDE = 8
 #: share of a mode's geometric work done by the twist term above which it is a torsional mode
 TORSION_SHARE = 0.8
 
@@ -33,7 +36,8 @@ def _as_study(study) -> Study:
 
 
 def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = None,
-          planar: bool | str | None = None, method: str | None = None, progress=None) -> Result:
+          planar: bool | str | None = None, method: str | None = None, progress=None,
+          preload=None, mesh_check=None, moment_terms=None, warping=None) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
     Parameters
@@ -41,9 +45,18 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     inp : path, ``meshio.Mesh`` or :class:`~framebuckle.read.InputModel`
     study : path of a TOML study file, a dict of the same content, or a Study
     modes : number of load factors per case (default 4)
-    subdivide : sub-elements per beam cell (default 4)
+    subdivide : sub-elements per beam cell (default 8)
     planar : ``"auto"`` (default), ``True`` or ``False``
     method : eigensolver: ``"auto"``, ``"dense"`` or ``"arpack"``
+    preload : name of a load case held constant while the others are scaled, or
+        ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.preload`
+    mesh_check : ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
+        sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.adequacy`
+    moment_terms : ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
+        given as cell fields, not for moments recovered from rotations), ``True`` (both) or
+        ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
+    warping : ``"equivalent"`` (default) or ``"dof"``: a warping DOF for cells with ``Iw``
+        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.warping`
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -60,46 +73,65 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack)", source=st.source)
 
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
-    return run(im, k, m, pl, meth, progress=progress)
+    options = {"preload": _preload.parse(preload, st, im.cases, im.source),
+               "mesh_check": _adequacy.parse(mesh_check, st, im.source),
+               "moment_terms": _moment_setting(moment_terms, st, im.source)}
+    if _warping.parse(warping, st, im.source) == "dof" and im.extra.get("Iw") is not None:
+        options["warping"] = _warping.restrained_points(im, st)
+    return run(im, k, m, pl, meth, progress=progress, options=options)
 
 
-def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result:
+def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=None) -> Result:
+    options = options or {}
     ref = _subdivide(im.frame, m)
     fine = ref.frame
-    asm = Assembler.build(fine)
-    K = asm.stiffness()
-    cons = find_constraints(fine, K, planar)
-    cons = _ignore_unused(cons, fine)
     n_in = im.frame.n_nodes
-    coarse_cell = _interior_cell(ref, im)
+    wrest = options.get("warping")
     warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
+    coarse_cell = _interior_cell(ref, im)
     try:
-        check_supported(fine, cons, n_in, im.source)
+        if wrest is None:
+            asm = Assembler.build(fine)
+            K = asm.stiffness()
+            cons = _ignore_unused(find_constraints(fine, K, planar), fine)
+            check_supported(fine, cons, n_in, im.source)
+        else:                                   # warping DOFs (framebuckle.warping)
+            asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
+                                            ref.fine_axial(im.extra["J_raw"]),
+                                            np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
+            K = asm.stiffness()
+            cons = _ignore_unused(asm.constraints(fine, K, planar, n_in, im.source), fine)
         factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
     except ModelError as exc:
         raise _explained(exc, warnings) from None
     free = cons.free
-    weak = verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
-    warnings += weak
+    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
+    geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
+    pre = None
+    if options.get("preload"):
+        pname, pfac = options["preload"]
+        pcase = next(c for c in im.cases if c.name == pname)
+        pre = _preload.prepare(pname, pfac, Kff, geo(pcase)[free][:, free], im.source)
     cases = []
     v0 = None
     for case in im.cases:
+        Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
         axial = ref.fine_axial(case.axial)
         scale = np.abs(axial).max() if axial.size else 0.0
-        if not (axial < -1e-12 * max(scale, 1e-300)).any():
+        if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
             cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
             continue
-        Gff = asm.geometric(axial)[free][:, free]
+        Gff = geo(case)[free][:, free]
         try:
-            er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+            er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
             try:
-                checks = verify.check_case(Kff, Gff, er, k, im.source, case.name)
+                checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
             except verify.MissedLoadFactor:
                 if er.method == "dense" or len(free) > verify.DENSE_RETRY:
                     raise
                 # iterative solvers can skip copies of a repeated load factor: solve densely
-                er = buckling_modes(factor, Kff, Gff, k, method="dense", source=im.source, case=case.name)
-                checks = verify.check_case(Kff, Gff, er, k, im.source, case.name)
+                er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
+                checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
                 checks["retried_dense"] = True
         except SolverError as exc:
             raise _explained(exc, warnings) from None
@@ -108,9 +140,17 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
                                     method=er.method))
             continue
         v0 = er.modes[:, 0]
-        full = np.zeros((fine.n_dofs, er.modes.shape[1]))
+        full = np.zeros((asm.n, er.modes.shape[1]))
         full[free] = er.modes
-        notes = []
+        full = full[:fine.n_dofs]
+        notes = list(case.extra.get("notes", []))
+        if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
+            notes.append("end moments recovered from the rotations are not used in the geometric "
+                         "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "
+                         "include them (see the limits in the README)")
+        if pre is not None:
+            notes.append(pre.note() if case.name != pre.name else
+                         "this case is the constant preload; its load factor is for the case alone")
         if len(er.load_factors) < k:
             notes.append(f"only {len(er.load_factors)} positive load factor(s) exist for this case")
         if er.cluster_continues:
@@ -124,8 +164,17 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None) -> Result
                                 er.residuals, er.cluster_continues, er.method, notes, checks))
         if progress:
             progress(case.name)
+    check = options.get("mesh_check", "auto")
+    if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
+        fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))
+        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None))
     notes = list(im.notes) + list(cons.notes)
-    settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method}
+    if wrest is not None:
+        notes = [n for n in notes if not n.startswith("warping constant Iw given: torsion uses")]
+    settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method,
+                "mesh_check": check, "warping": "equivalent" if wrest is None else "dof"}
+    if options.get("preload"):
+        settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     return Result(im, ref, cons, cases, notes, settings, warnings)
 
 
@@ -142,9 +191,52 @@ def _ignore_unused(cons, fine):
     if unused.size == 0:
         return cons
     fixed = cons.fixed.copy()
-    fixed.reshape(-1, 6)[unused] = True
+    fixed[: fine.n_dofs].reshape(-1, 6)[unused] = True
     note = (f"{unused.size} point(s) used by no member were ignored (first: point {int(unused[0])})",)
     return replace(cons, fixed=fixed, free=np.flatnonzero(~fixed), notes=tuple(cons.notes) + note)
+
+
+def _mesh_check_orders(im, warping_dofs=False) -> dict:
+    """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
+    f = im.frame
+    shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
+    return {c.name: _adequacy.ORDER_TWIST for c in im.cases
+            if shear or (c.extra.get("moments") is not None and not warping_dofs)}
+
+
+def _moment_setting(value, st, source):
+    v = st.get("analysis", "moment_terms", default="auto") if value is None else value
+    if v not in (True, False, "auto"):
+        raise InputError(f"[analysis] moment_terms must be true, false or \"auto\", got {v!r}",
+                         source=st.source if value is None else source)
+    return v
+
+
+class _CaseGeometric:
+    """Global geometric stiffness of a load case on the fine model: axial terms, plus the
+    end-moment terms (framebuckle.moments) when the case has end moments and they are on."""
+
+    def __init__(self, asm, ref, moment_terms=True):
+        self.asm, self.ref, self.on, self._local = asm, ref, moment_terms, None
+
+    def has_moments(self, case) -> bool:
+        M = case.extra.get("moments")
+        on = self.on is True or (self.on == "auto" and case.extra.get("moments_from") == "cell fields")
+        return bool(on and M is not None and np.abs(M[:, [1, 2, 4, 5]]).max() > 0)
+
+    def __call__(self, case):
+        Kg = self.asm.geometric(self.ref.fine_axial(case.axial))
+        if self.has_moments(case):
+            from .elements import local_matrices
+            from .moments import fine_moments, moment_geometric_global
+            fine = self.ref.frame
+            if self._local is None and not hasattr(self.asm, "moment_matrix"):
+                self._local = local_matrices(fine)
+            Mf = fine_moments(self.ref, case.extra["moments"])
+            if hasattr(self.asm, "moment_matrix"):        # warping DOFs
+                return Kg + self.asm.moment_matrix(Mf)
+            Kg = Kg + self.asm.matrix(moment_geometric_global(fine, Mf, self._local))
+        return Kg
 
 
 def _interior_cell(ref, im):

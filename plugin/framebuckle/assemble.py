@@ -49,6 +49,10 @@ class Assembler:
         data = np.bincount(self.slot, weights=values.reshape(-1), minlength=len(self.indices))
         return sp.csr_matrix((data, self.indices, self.indptr), shape=(self.n, self.n))
 
+    def matrix(self, values: np.ndarray) -> sp.csr_matrix:
+        """Assemble any global element matrices ``values`` (e, 12, 12) on this pattern."""
+        return self._csr(np.asarray(values, dtype=float))
+
     def stiffness(self, scale: np.ndarray | None = None) -> sp.csr_matrix:
         """Global elastic stiffness K; ``scale`` multiplies each element's matrix."""
         Ke = self.Ke if scale is None else self.Ke * np.asarray(scale)[:, None, None]

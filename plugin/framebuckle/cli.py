@@ -1,11 +1,13 @@
-"""Command line: ``framebuckle solve INPUT [--study F] [--modes N] [--subdivide M] [--out DIR]``.
+"""Command line: ``framebuckle solve INPUT ...`` and ``framebuckle check INPUT ... [--min-alpha X] [--json]``.
 
-Exit codes: 0 done, 2 bad input or a model that cannot be solved (message, no traceback).
+Exit codes: 0 done (check: every case passes), 1 (check only) a case fails, 2 bad input or a model
+that cannot be solved (message, no traceback).
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import signal
 import sys
 from pathlib import Path
@@ -34,14 +36,126 @@ def build_parser() -> argparse.ArgumentParser:
     s = sub.add_parser("solve", help="load factors and modes of every load case")
     _common(s)
     s.set_defaults(func=cmd_solve)
+    c = sub.add_parser("check", help="load factors, effective lengths, participation, stiffening advice, "
+                                     "code verdicts and an imperfection; exit 1 when a case fails")
+    _common(c)
+    c.add_argument("--min-alpha", type=_positive_float, dest="min_alpha",
+                   help="alpha_cr every case must reach (default: EN 1993-1-1 5.2.1(3) limit, 10 elastic)")
+    c.add_argument("--json", action="store_true", help="print the summary as JSON on stdout")
+    c.set_defaults(func=cmd_check)
+    _picture_commands(sub)
     return p
+
+
+def _positive_float(text):
+    try:
+        v = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number, got {text!r}") from None
+    if not v > 0 or v == float("inf"):
+        raise argparse.ArgumentTypeError(f"must be a positive number, got {text}")
+    return v
+
+
+def _picture_commands(sub):
+    """``render``, ``view`` and ``report`` (pictures and the HTML report)."""
+    r = sub.add_parser("render", help="PNG pictures (and GIF animations) of buckling modes, off-screen")
+    _common(r)
+    r.set_defaults(out="framebuckle_out")
+    r.add_argument("--case", action="append", help="load case to draw (repeatable; default: every case)")
+    r.add_argument("--mode", type=_positive_int, default=1, help="mode number, 1 = alpha_cr (default 1)")
+    r.add_argument("--scale", type=float, help="shape scale: drawn displacement of the largest node "
+                                                "(model units; default 10 %% of the model size)")
+    r.add_argument("--animate", action="store_true", help="also write a looping GIF of the mode")
+    r.add_argument("--window", type=_window, default=(1200, 900), metavar="WxH",
+                   help="picture size in pixels (default 1200x900)")
+    r.set_defaults(func=cmd_render)
+    v = sub.add_parser("view", help="interactive window: mode, case and scale sliders (needs a display)")
+    _common(v)
+    v.add_argument("--case", help="load case shown first")
+    v.add_argument("--mode", type=_positive_int, default=1, help="mode shown first (default 1)")
+    v.set_defaults(func=cmd_view)
+    h = sub.add_parser("report", help="one self-contained HTML report (pictures embedded)")
+    _common(h)
+    h.set_defaults(func=cmd_report)
+
+
+def _window(text):
+    try:
+        w, h = (int(x) for x in text.lower().split("x"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected WIDTHxHEIGHT in pixels, e.g. 800x600, got {text!r}") from None
+    if not (64 <= w <= 8192 and 64 <= h <= 8192):
+        raise argparse.ArgumentTypeError(f"picture size must be 64 to 8192 pixels each way, got {text!r}")
+    return w, h
+
+
+def cmd_render(args) -> int:
+    from .errors import InputError
+    from .progress import Progress
+    from .render import picture_name, render_all
+    from .viewer import load_modes, result_stem
+    from .write import prepare_dir
+    if args.scale is not None and not (args.scale >= 0 and args.scale < float("inf")):
+        raise InputError(f"--scale must be a finite number >= 0, got {args.scale}")
+    with Progress(0, "solve") as bar:
+        ms, result = load_modes(args.input, args.study, args.modes, args.subdivide, progress=bar)
+    out = prepare_dir(Path(args.out))
+    stem = result_stem(args.input)
+    cases = args.case or [c.name for c in ms.cases if len(c.load_factors)]
+    if not cases:
+        raise InputError("no load case has a buckling mode to draw: "
+                         + "; ".join(f"{c.name}: {c.message}" for c in ms.cases), source=ms.source)
+    if not args.force:
+        from .errors import OutputError
+        for c in cases:
+            for ext in ("png", "gif") if args.animate else ("png",):
+                t = out / picture_name(stem, c, args.mode, ext)
+                if t.exists():
+                    raise OutputError("output exists; use --force to replace it", source=str(t))
+    paths = render_all(ms, out, stem, cases, (args.mode,), args.scale, args.animate, args.window)
+    for c in cases:
+        case = ms.case(c)
+        print(f"{c}: mode {args.mode}, load factor {case.load_factors[args.mode - 1]:.4g} "
+              f"(alpha_cr {case.load_factors[0]:.4g})")
+    print("wrote: " + ", ".join(str(p) for p in paths))
+    print("caution: " + " ".join(CAUTIONS))
+    return 0
+
+
+def cmd_view(args) -> int:
+    from .render import has_display
+    if not has_display():
+        print("framebuckle: error: no display (DISPLAY and WAYLAND_DISPLAY are not set), so no window "
+              f"can open; write pictures instead: framebuckle render {args.input} --out DIR",
+              file=sys.stderr)
+        return 2
+    from .viewer import build_viewer, load_modes
+    ms, _ = load_modes(args.input, args.study, args.modes, args.subdivide)
+    plotter, _ = build_viewer(ms, args.case, args.mode)
+    print("caution: " + " ".join(CAUTIONS))
+    plotter.show()
+    return 0
+
+
+def cmd_report(args) -> int:
+    from .api import solve
+    from .progress import Progress
+    from .report import make_report
+    from .study import load_study
+    study = load_study(args.study) if args.study else None
+    with Progress(0, "solve") as bar:
+        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, progress=bar)
+    path = make_report(result, Path(args.out), study=study, force=args.force)
+    print_result(result, {"report": path})
+    return 0
 
 
 def _common(s):
     s.add_argument("input", help="mesh file (VTU, XDMF, Gmsh MSH, or any format meshio reads)")
     s.add_argument("--study", help="study file (TOML)")
     s.add_argument("--modes", type=_positive_int, help="load factors per case (default 4)")
-    s.add_argument("--subdivide", type=_positive_int, help="sub-elements per beam cell (default 4)")
+    s.add_argument("--subdivide", type=_positive_int, help="sub-elements per beam cell (default 8)")
     s.add_argument("--out", default="framebuckle_out", help="output folder (default ./framebuckle_out)")
     s.add_argument("--force", action="store_true", help="replace existing outputs")
 
@@ -57,7 +171,8 @@ def _fmt_table(result) -> str:
     return "\n".join(out)
 
 
-def print_result(result, paths, stream=sys.stdout):
+def print_result(result, paths, stream=None):
+    stream = stream or sys.stdout     # looked up at call time (tests and callers redirect it)
     s = result.summary()
     m = s["model"]
     print(f"{result.input.source}: {m['nodes']} points, {m['elements']} members, "
@@ -78,7 +193,9 @@ def print_result(result, paths, stream=sys.stdout):
 def cmd_solve(args) -> int:
     from .api import solve
     from .write import write_result
-    result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide)
+    from .progress import Progress
+    with Progress(0, "solve") as bar:      # drawn only on a terminal
+        result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide, progress=bar)
     paths = write_result(result, Path(args.out), force=args.force)
     print_result(result, paths)
     return 0
@@ -86,6 +203,44 @@ def cmd_solve(args) -> int:
 
 def _terminate(signum, frame):
     raise KeyboardInterrupt   # SIGTERM: unwind like Ctrl-C so temporary outputs are removed
+
+
+def cmd_check(args) -> int:
+    """Exit 0 when every case passes, 1 when any fails (2 on bad input, from main)."""
+    import json
+
+    from .api import _as_study, solve
+    from .check import format_table, run_check, write_check
+    from .write import _jsonable
+    study = _as_study(args.study)
+    result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide)
+    report = run_check(result, study, args.min_alpha)
+    paths = write_check(result, report, Path(args.out), force=args.force)
+    if args.json:
+        json.dump(report.summary, sys.stdout, indent=2, default=_jsonable)
+        print()
+        return report.exit_code
+    s = report.summary
+    m = s["model"]
+    print(f"{result.input.source}: {m['nodes']} points, {m['elements']} members "
+          f"({s['check']['members']['count']} grouped), {m['dofs']} DOFs after sub-division")
+    for n in s["notes"]:
+        print(f"note: {n}")
+    print(format_table(report))
+    for c in s["cases"]:
+        for n in c["notes"]:
+            print(f"note [{c['name']}]: {n}")
+    imp = s["check"]["imperfection"]
+    if imp and imp.get("skipped"):
+        print(f"imperfection: {imp['note']}")
+    elif imp:
+        print(f"imperfection: case {imp['case']} mode {imp['mode']}, largest translation "
+              f"{imp['amplitude']:.4g} ({imp['formula']})")
+    print(f"minimum alpha_cr {s['check']['min_alpha']:g} ({s['check']['min_alpha_from']}): "
+          f"{'all cases pass' if report.passed else 'FAILED'}")
+    print("wrote: " + ", ".join(str(p) for p in paths.values()))
+    print("caution: " + " ".join(CAUTIONS))
+    return report.exit_code
 
 
 def main(argv=None) -> int:
@@ -100,6 +255,13 @@ def main(argv=None) -> int:
     except FrameBuckleError as exc:
         print(f"framebuckle: error: {exc}", file=sys.stderr)
         return exc.exit_code
+    except BrokenPipeError:          # e.g. `framebuckle check ... | head`: stop quietly
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        except OSError:
+            pass
+        return 141                  # what a process ended by SIGPIPE reports
     except KeyboardInterrupt:
         print("framebuckle: interrupted; no partial output was left", file=sys.stderr)
         return 130

@@ -54,8 +54,13 @@ def transformation(R: np.ndarray) -> np.ndarray:
     return T
 
 
-def beam_elastic_local(L, E, G, A, Iy, Iz, J) -> np.ndarray:
-    """Local elastic stiffness of 3D Euler-Bernoulli beams, shape (e, 12, 12)."""
+def beam_elastic_local(L, E, G, A, Iy, Iz, J, phi_y=None, phi_z=None) -> np.ndarray:
+    """Local elastic stiffness of 3D beams, shape (e, 12, 12).
+
+    Euler-Bernoulli unless the shear parameters ``phi_y = 12 E Iz / (G Asy L^2)``
+    (x-y plane) and ``phi_z = 12 E Iy / (G Asz L^2)`` (x-z plane) are given: then
+    the Timoshenko beam of :func:`shear_parameters`.
+    """
     n = len(L)
     K = np.zeros((n, 12, 12))
     ea = E * A / L
@@ -63,49 +68,97 @@ def beam_elastic_local(L, E, G, A, Iy, Iz, J) -> np.ndarray:
     _put(K, (0, 6), ea[:, None, None] * np.array([[1, -1], [-1, 1]]))
     _put(K, (3, 9), gj[:, None, None] * np.array([[1, -1], [-1, 1]]))
     # x-y plane bending, DOFs v, theta_z: EIz
-    _put(K, (1, 5, 7, 11), _bend(E * Iz, L, +1))
+    _put(K, (1, 5, 7, 11), _bend(E * Iz, L, +1, phi_y))
     # x-z plane bending, DOFs w, theta_y: EIy, coupling signs flipped
-    _put(K, (2, 4, 8, 10), _bend(E * Iy, L, -1))
+    _put(K, (2, 4, 8, 10), _bend(E * Iy, L, -1, phi_z))
     return K
 
 
-def _bend(EI, L, s):
+def shear_parameters(frame: Frame, L: np.ndarray, sel) -> tuple:
+    r"""Shear-flexibility parameters of the Timoshenko beam, ``(phi_y, phi_z)`` or ``(None, None)``.
+
+    .. math::  \phi_y = \frac{12 E I_z}{G A_{sy} L^2}, \qquad \phi_z = \frac{12 E I_y}{G A_{sz} L^2}
+
+    (``phi_y`` for bending in the x-y plane, where the shear force acts along y).
+    The elastic stiffness is then the exact Timoshenko beam stiffness, e.g. in the
+    x-y plane :math:`\frac{EI}{(1+\phi)L^3}[12, 6L, -12, 6L; 6L, (4+\phi)L^2, -6L,
+    (2-\phi)L^2; \dots]`, and the geometric stiffness is :math:`\int v'^T v' dx` of the
+    same element's deflection shape functions (Przemieniecki 1968, Theory of Matrix
+    Structural Analysis, secs. 5.6 and 15.3):
+
+    .. math::
+
+        \frac{P}{(1+\phi)^2 L}\begin{bmatrix}
+        \tfrac65 + 2\phi + \phi^2 & \tfrac{L}{10} & \cdot & \tfrac{L}{10} \\
+        & L^2(\tfrac{2}{15} + \tfrac{\phi}{6} + \tfrac{\phi^2}{12}) & -\tfrac{L}{10} &
+        -L^2(\tfrac{1}{30} + \tfrac{\phi}{6} + \tfrac{\phi^2}{12}) \\ \dots \end{bmatrix}.
+
+    The second-order work is done on the slope of the total deflection, so the shear force
+    in the buckled member is ``P`` times that slope: the column buckles at Engesser's load
+    :math:`P_E / (1 + P_E / (G A_s))` (Timoshenko & Gere 1961, Theory of Elastic Stability,
+    sec. 2.17), not at Haringx's.
+    """
+    out = []
+    for As, I in ((frame.Asy, frame.Iz), (frame.Asz, frame.Iy)):
+        if As is None:
+            out.append(None)
+            continue
+        with np.errstate(divide="ignore"):
+            out.append(12 * frame.E[sel] * I[sel] / (frame.G[sel] * As[sel] * L ** 2))
+    return tuple(out)
+
+
+def _bend(EI, L, s, phi=None):
     L2 = L * L
-    c = EI / (L2 * L)
+    ph = np.zeros(len(L)) if phi is None else phi
+    c = EI / (L2 * L * (1 + ph))
     m = np.empty((len(L), 4, 4))
     m[:, 0, 0] = 12; m[:, 0, 1] = s * 6 * L; m[:, 0, 2] = -12; m[:, 0, 3] = s * 6 * L
-    m[:, 1, 1] = 4 * L2; m[:, 1, 2] = -s * 6 * L; m[:, 1, 3] = 2 * L2
+    m[:, 1, 1] = (4 + ph) * L2; m[:, 1, 2] = -s * 6 * L; m[:, 1, 3] = (2 - ph) * L2
     m[:, 2, 2] = 12; m[:, 2, 3] = -s * 6 * L
-    m[:, 3, 3] = 4 * L2
+    m[:, 3, 3] = (4 + ph) * L2
     iu = np.triu_indices(4, 1)
     m[:, iu[1], iu[0]] = m[:, iu[0], iu[1]]
     return c[:, None, None] * m
 
 
-def geometric_4x4(L, s=+1) -> np.ndarray:
+def geometric_4x4(L, s=+1, phi=None) -> np.ndarray:
     r"""Plane geometric stiffness per unit axial force, ``\int phi'^T phi' dx``.
 
     DOFs ``(v1, theta1, v2, theta2)`` with ``theta = dv/dx`` for ``s = +1``
-    (``theta = -dv/dx`` for ``s = -1``).  Shape (e, 4, 4).
+    (``theta = -dv/dx`` for ``s = -1``).  Shape (e, 4, 4).  With the shear
+    parameter ``phi`` the Timoshenko element's form (see :func:`shear_parameters`).
     """
     L = np.asarray(L, dtype=float)
     L2 = L * L
     m = np.empty((len(L), 4, 4))
-    m[:, 0, 0] = 36; m[:, 0, 1] = s * 3 * L; m[:, 0, 2] = -36; m[:, 0, 3] = s * 3 * L
-    m[:, 1, 1] = 4 * L2; m[:, 1, 2] = -s * 3 * L; m[:, 1, 3] = -L2
-    m[:, 2, 2] = 36; m[:, 2, 3] = -s * 3 * L
-    m[:, 3, 3] = 4 * L2
+    if phi is None:
+        m[:, 0, 0] = 36; m[:, 0, 1] = s * 3 * L; m[:, 0, 2] = -36; m[:, 0, 3] = s * 3 * L
+        m[:, 1, 1] = 4 * L2; m[:, 1, 2] = -s * 3 * L; m[:, 1, 3] = -L2
+        m[:, 2, 2] = 36; m[:, 2, 3] = -s * 3 * L
+        m[:, 3, 3] = 4 * L2
+        scale = 1.0 / (30 * L)
+    else:
+        p = phi
+        a = 36 + 60 * p + 30 * p * p             # 30 (6/5 + 2 phi + phi^2)
+        b = L2 * (8 + 10 * p + 5 * p * p) / 2    # 30 L^2 (2/15 + phi/6 + phi^2/12)
+        c = -L2 * (2 + 10 * p + 5 * p * p) / 2   # -30 L^2 (1/30 + phi/6 + phi^2/12)
+        m[:, 0, 0] = a; m[:, 0, 1] = s * 3 * L; m[:, 0, 2] = -a; m[:, 0, 3] = s * 3 * L
+        m[:, 1, 1] = b; m[:, 1, 2] = -s * 3 * L; m[:, 1, 3] = c
+        m[:, 2, 2] = a; m[:, 2, 3] = -s * 3 * L
+        m[:, 3, 3] = b
+        scale = 1.0 / (30 * L * (1 + p) ** 2)
     iu = np.triu_indices(4, 1)
     m[:, iu[1], iu[0]] = m[:, iu[0], iu[1]]
-    return m / (30 * L)[:, None, None]
+    return m * scale[:, None, None]
 
 
-def beam_geometric_local(L, A, Ip) -> np.ndarray:
+def beam_geometric_local(L, A, Ip, phi_y=None, phi_z=None) -> np.ndarray:
     """Local geometric stiffness of beams per unit axial force, (e, 12, 12)."""
     n = len(L)
     G = np.zeros((n, 12, 12))
-    _put(G, (1, 5, 7, 11), geometric_4x4(L, +1))
-    _put(G, (2, 4, 8, 10), geometric_4x4(L, -1))
+    _put(G, (1, 5, 7, 11), geometric_4x4(L, +1, phi_y))
+    _put(G, (2, 4, 8, 10), geometric_4x4(L, -1, phi_z))
     r2 = Ip / A / L
     _put(G, (3, 9), r2[:, None, None] * np.array([[1, -1], [-1, 1]]))
     return G
@@ -135,6 +188,16 @@ def element_matrices(frame: Frame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
     Returns ``(Ke, Ge, T)``, each (e, 12, 12): ``Kg_element = P * Ge``.
     """
+    Kl, Gl, T, _ = local_matrices(frame)
+    Ke = np.einsum("eji,ejk,ekl->eil", T, Kl, T, optimize=True)
+    Ge = np.einsum("eji,ejk,ekl->eil", T, Gl, T, optimize=True)
+    return Ke, Ge, T
+
+
+def local_matrices(frame: Frame):
+    """Local ``(Kl, Gl, T, C)``: elastic and unit-force geometric stiffness after end-release
+    condensation, the transformation, and the condensation matrices ``C`` (None without releases).
+    """
     R, L = local_axes(frame)
     T = transformation(R)
     beam = ~frame.bar
@@ -142,16 +205,23 @@ def element_matrices(frame: Frame) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     Gl = np.zeros_like(Kl)
     if beam.any():
         b = beam
+        phi = shear_parameters(frame, L[b], b)
         Kl[b] = beam_elastic_local(L[b], frame.E[b], frame.G[b], frame.A[b],
-                                   frame.Iy[b], frame.Iz[b], frame.J[b])
-        Gl[b] = beam_geometric_local(L[b], frame.A[b], frame.Ip[b])
+                                   frame.Iy[b], frame.Iz[b], frame.J[b], *phi)
+        Gl[b] = beam_geometric_local(L[b], frame.A[b], frame.Ip[b], *phi)
     if frame.bar.any():
         b = frame.bar
         Kl[b] = bar_elastic_local(L[b], frame.E[b], frame.A[b])
         Gl[b] = bar_geometric_local(L[b])
-    Ke = np.einsum("eji,ejk,ekl->eil", T, Kl, T, optimize=True)
-    Ge = np.einsum("eji,ejk,ekl->eil", T, Gl, T, optimize=True)
-    return Ke, Ge, T
+    C = None
+    if frame.release is not None and frame.release.any():
+        from .releases import condensation, condense
+        r = np.flatnonzero(frame.release.any(axis=1))
+        C = np.broadcast_to(np.eye(12), Kl.shape).copy()
+        C[r] = condensation(Kl[r], frame.release[r], frame.parent[r], frame.source)
+        Kl[r] = condense(Kl[r], C[r])
+        Gl[r] = condense(Gl[r], C[r])
+    return Kl, Gl, T, C
 
 
 def element_dofs(frame: Frame) -> np.ndarray:

@@ -61,6 +61,12 @@ class Frame:
         Fixed global DOFs.
     parent : (e,) int
         Index of the input cell each element comes from.
+    release : (e, 12) bool or None
+        End releases in local axes, start ``[N, Vy, Vz, T, My, Mz]`` then end
+        (``True`` = released); condensed out of the element matrices.
+    Asy, Asz : (e,) float or None
+        Shear areas for shear along local y and z (Timoshenko beams); ``None``
+        or ``inf`` = rigid in shear (Euler-Bernoulli).
     """
 
     nodes: np.ndarray
@@ -77,6 +83,9 @@ class Frame:
     restraint: np.ndarray
     parent: np.ndarray
     source: str = "<model>"
+    release: np.ndarray | None = None
+    Asy: np.ndarray | None = None
+    Asz: np.ndarray | None = None
 
     @property
     def n_nodes(self) -> int:
@@ -110,7 +119,8 @@ class LoadCase:
 
 
 def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
-               bar=None, restraint=None, parent=None, source="<model>") -> Frame:
+               bar=None, restraint=None, parent=None, source="<model>", release=None,
+               Asy=None, Asz=None) -> Frame:
     """Build a :class:`Frame`, broadcasting scalars and validating everything.
 
     Raises :class:`InputError` naming the element or node at fault.
@@ -187,11 +197,45 @@ def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
                              source=source)
         restraint = r.astype(bool)
 
+    release = _release(release, ne, bar, source, parent)
+    shear = {}
+    for name, val in (("Asy", Asy), ("Asz", Asz)):
+        if val is None:
+            shear[name] = None
+            continue
+        a = np.asarray(val, dtype=float)
+        a = np.full(ne, float(a)) if a.ndim == 0 else a.reshape(-1) if a.ndim == 2 and a.shape[1] == 1 else a
+        if a.shape != (ne,):
+            raise InputError(f"field '{name}' must have one value per cell ({ne}), got shape {a.shape}",
+                             source=source)
+        if np.isnan(a).any():
+            raise InputError(f"field '{name}' has NaN values at cell {parent[np.flatnonzero(np.isnan(a))[0]]}",
+                             source=source)
+        _check_positive(a, name, source, where=~bar, parent=parent)
+        shear[name] = _frozen(a)
+
     return Frame(nodes=_frozen(nodes), elements=_frozen(elements, np.int64),
                  **{k: _frozen(v) for k, v in props.items()},
                  orientation=_frozen(orientation), bar=_frozen(bar, bool),
                  restraint=_frozen(restraint, bool), parent=_frozen(parent, np.int64),
-                 source=source)
+                 source=source, release=release, **shear)
+
+
+def _release(release, ne, bar, source, parent):
+    """Validate end releases (e, 12) of 0/1; ``None`` when nothing is released (bars ignored)."""
+    if release is None:
+        return None
+    r = np.asarray(release)
+    if r.shape != (ne, 12):
+        raise InputError(f"end releases must have shape ({ne}, 12), got {r.shape}", source=source)
+    rf = r.astype(float)
+    ok = np.isfinite(rf).all(axis=1) & np.isin(rf, (0.0, 1.0)).all(axis=1)
+    if not ok.all():
+        i = int(np.flatnonzero(~ok)[0])
+        raise InputError(f"fields 'release_start'/'release_end' must hold only 0 or 1; cell {parent[i]} has "
+                         f"{r[i].tolist()}", source=source)
+    r = rf.astype(bool) & ~bar[:, None]
+    return _frozen(r, bool) if r.any() else None
 
 
 def make_case(name: str, axial, frame: Frame, source: str | None = None) -> LoadCase:

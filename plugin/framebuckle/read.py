@@ -8,6 +8,14 @@ Input contract (default field names; a study file may rename them):
   ``E``, ``G``, ``A``, ``Iy``, ``Iz``, ``J``, optional ``Ip``, ``Iw``,
   ``orientation`` (3 components), ``bar`` (1 = pin-ended axial-only member).
 * point field ``restraint`` (n, 6) of 0/1 for [ux, uy, uz, rx, ry, rz].
+* optional cell fields ``release_start``, ``release_end`` (6 components of 0/1,
+  local [N, Vy, Vz, T, My, Mz], 1 = released), see :mod:`framebuckle.releases`.
+* instead of (or beside) an axial force: point fields ``displacement`` (n, 3)
+  and optional ``rotation`` (n, 3), or ``displacement.<case>`` /
+  ``rotation.<case>``; forces recovered by :mod:`framebuckle.recover`.
+* optional cell fields ``Asy``, ``Asz``: shear areas (Timoshenko beams).
+* optional cell fields ``moment_start``, ``moment_end`` (or ``.<case>``): internal
+  end moments [T, My, Mz] in local axes, see :mod:`framebuckle.moments`.
 * XDMF time series: each time step is a load case.
 """
 
@@ -25,6 +33,7 @@ import numpy as np
 
 from .errors import InputError
 from .model import Frame, LoadCase, make_case, make_frame
+from .releases import read_releases
 from .study import SUPPORT_KINDS, Study
 
 LINE_TYPES = ("line", "line3")
@@ -259,7 +268,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
 
     bar = cf("bar")
     props = {}
-    for name in SECTION_KEYS + ("Ip", "Iw", "fy"):
+    for name in SECTION_KEYS + ("Ip", "Iw", "fy", "Asy", "Asz"):
         a = tables.get(name)
         if a is None or np.isnan(a).all():
             a = cf(name) if name != "fy" else a
@@ -281,7 +290,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
         elif is_bar.any():
             props[name] = np.where(is_bar & ~np.isfinite(props[name]), 1.0, props[name])
     for name, a in props.items():
-        if a is not None and np.isnan(a).any() and name not in ("Iw", "fy"):
+        if a is not None and np.isnan(a).any() and name not in ("Iw", "fy", "Asy", "Asz"):
             raise InputError(f"field '{study.field_name(name)}' has no value (NaN) for cell "
                              f"{cell_ids[np.flatnonzero(np.isnan(a))[0]]}", source=src)
 
@@ -324,15 +333,25 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
     sets = point_sets(mesh)
     restraint = _apply_supports(restraint, study, sets, np.asarray(mesh.points, float), src)
 
+    # end releases (cell fields and [[releases]] of the study file)
+    release = read_releases(mesh, study, blocks, offsets, cell_ids, cf("release_start", ncomp=6),
+                            cf("release_end", ncomp=6), cf("member"), src)
+
     frame = make_frame(mesh.points, elements, props["E"], props["G"], props["A"], props["Iy"],
                        props["Iz"], J, Ip=props["Ip"], orientation=orientation, bar=is_bar,
-                       restraint=restraint, parent=cell_ids, source=src)
+                       restraint=restraint, parent=cell_ids, source=src, release=release,
+                       Asy=_shear_area(props["Asy"]), Asz=_shear_area(props["Asz"]))
 
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
-    extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member")}
+    extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"]}
     units = {"force": study.get("units", "force"), "length": study.get("units", "length")}
     return InputModel(frame, cases, mesh, cell_ids, n_cells, sets, units, notes, src, extra)
+
+
+def _shear_area(a):
+    """Shear area per element; cells without a value are rigid in shear (inf)."""
+    return None if a is None else np.where(np.isnan(a), np.inf, a)
 
 
 def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
@@ -350,8 +369,12 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
             a = np.repeat(_cell_field(mesh, name, blocks, src), expand)
             label = "default" if name == base else name[len(base) + 1:]
             cases.append(make_case(label, a, frame, src))
+    cases = _recovered_cases(mesh, study, frame, src, steps, cases)
+    if not steps:
+        cases = _moment_cases(mesh, study, blocks, expand, frame, src, cases)
     if not cases:
-        raise InputError(f"no axial force field: expected a cell field '{base}' or '{base}.<case>'; "
+        raise InputError(f"no axial force field: expected a cell field '{base}' or '{base}.<case>' "
+                         f"(or point fields '{study.field_name('displacement')}'[.<case>]); "
                          f"cell fields in the file: {', '.join(sorted(mesh.cell_data)) or 'none'}",
                          source=src)
     wanted = study.get("analysis", "cases")
@@ -363,6 +386,59 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
                                  f"cases: {', '.join(names)}", source=study.source)
         cases = [c for c in cases if c.name in wanted]
     return cases
+
+
+def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
+    """Cases from point displacements (and rotations), see :mod:`framebuckle.recover`."""
+    from .recover import disagreement, displacement_fields, recover_case
+    by_name = {c.name: i for i, c in enumerate(cases)}
+    out = list(cases)
+    sources = [(f"t={t:g}", pd) for t, pd, _ in steps] if steps else [(None, mesh.point_data)]
+    for prefix, pd in sources:
+        for suffix, (dname, rname) in displacement_fields(pd, study).items():
+            if prefix is None:
+                label = suffix or "default"
+            else:
+                label = prefix + (f"/{suffix}" if suffix else "")
+            axial, moments = recover_case(frame, pd, dname, rname, src)
+            extra = {"moments": moments, "moments_from": "displacements"} if moments is not None else {}
+            if label in by_name:
+                c = out[by_name[label]]
+                rel, i = disagreement(c.axial, axial)
+                extra["notes"] = [f"axial forces recovered from '{dname}' differ from the given axial force "
+                                  f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
+                                  f"the given axial forces are used"
+                                  + ("; check that the displacement fields belong to this mesh and its "
+                                     "point order" if rel > 0.01 else "")]
+                out[by_name[label]] = LoadCase(c.name, c.axial, {**c.extra, **extra})
+            else:
+                c = make_case(label, axial, frame, src)
+                extra["notes"] = [f"axial forces recovered from the point field '{dname}'"
+                                  + (f" and end moments from '{rname}'" if rname else "")]
+                out.append(LoadCase(c.name, c.axial, extra))
+                by_name[label] = len(out) - 1
+    return out
+
+
+def _moment_cases(mesh, study, blocks, expand, frame, src, cases) -> list[LoadCase]:
+    """Attach cell fields ``moment_start``/``moment_end`` (see :mod:`framebuckle.moments`) to cases."""
+    from .moments import read_moment_fields
+    fields = read_moment_fields(list(mesh.cell_data),
+                                lambda n: np.repeat(_cell_field(mesh, n, blocks, src, 3), expand, axis=0),
+                                study, frame.parent, src)
+    out = list(cases)
+    names = [c.name for c in out]
+    for suffix, M in fields.items():
+        label = suffix or "default"
+        extra = {"moments": M, "moments_from": "cell fields"}
+        if label in names:
+            i = names.index(label)
+            out[i] = LoadCase(out[i].name, out[i].axial, {**out[i].extra, **extra})
+        else:
+            c = make_case(label, 0.0, frame, src)
+            out.append(LoadCase(c.name, c.axial, {**extra, "notes": ["end moments only (no axial force)"]}))
+            names.append(label)
+    return out
 
 
 def _case_fields(mesh, base):

@@ -5,6 +5,8 @@ column by about 22 %, so each beam element is split into ``m`` equal
 sub-elements carrying the same axial force and section.  Bars are never split
 (a chain of pin-jointed bars is a mechanism).  The input nodes keep their
 numbers; interior nodes are appended after them, element by element.
+End releases of a cell go to its first sub-element's start and its last
+sub-element's end only.
 """
 
 from __future__ import annotations
@@ -14,6 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .model import Frame, make_frame
+from .releases import refine_release
 
 
 @dataclass(frozen=True)
@@ -58,5 +61,8 @@ def subdivide(frame: Frame, m: int = 4) -> Refined:
         nodes, elements, frame.E[emap], frame.G[emap], frame.A[emap], frame.Iy[emap],
         frame.Iz[emap], frame.J[emap], Ip=frame.Ip[emap],
         orientation=frame.orientation[emap], bar=frame.bar[emap], restraint=restraint,
-        parent=frame.parent[emap], source=frame.source)
+        parent=frame.parent[emap], source=frame.source,
+        release=refine_release(frame.release, beams, bars, m),
+        Asy=None if frame.Asy is None else frame.Asy[emap],
+        Asz=None if frame.Asz is None else frame.Asz[emap])
     return Refined(fine, frame, emap, m)

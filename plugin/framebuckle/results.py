@@ -27,6 +27,7 @@ class CaseResult:
     method: str = ""
     notes: list = field(default_factory=list)
     checks: dict = field(default_factory=dict)   # verify.check_case: residuals, Sturm count, ...
+    mesh_check: dict | None = None   # see framebuckle.adequacy
 
     @property
     def alpha_cr(self) -> float | None:
@@ -91,6 +92,7 @@ class Result:
                 "eigensolver": c.method,
                 "notes": list(c.notes) + ([c.message()] if c.message() else []),
                 "checks": dict(c.checks),
+                "mesh_check": None if c.mesh_check is None else dict(c.mesh_check),
             } for c in self.cases],
             "model": {"nodes": int(self.input.frame.n_nodes), "elements": int(self.input.frame.n_elements),
                       "dofs": int(f.n_dofs), "free_dofs": int(len(self.constraints.free)),

@@ -20,22 +20,40 @@ FIELD_DEFAULTS = {
     "axial_force": "axial_force", "E": "E", "G": "G", "A": "A", "Iy": "Iy", "Iz": "Iz",
     "J": "J", "Ip": "Ip", "Iw": "Iw", "orientation": "orientation", "bar": "bar",
     "restraint": "restraint", "member": "member",
+    "release_start": "release_start", "release_end": "release_end",
+    "displacement": "displacement", "rotation": "rotation", "Asy": "Asy", "Asz": "Asz",
+    "moment_start": "moment_start", "moment_end": "moment_end",
+    "warping_restraint": "warping_restraint",
 }
 
 _num = (int, float)
-_SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", "G")}
+_SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", "G", "Asy", "Asz")}
 
 #: Allowed keys: a dict is a table, a tuple of types a leaf, "TABLE_OF" a table
 #: whose keys are free (integer ids) and whose values follow the inner schema.
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
-                 "cases": (list,), "eigensolver": (str,)},
+                 "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
+                 "moment_terms": (bool, str), "warping": (str,)},
+    "warping": {"supports": (str,), "points": (list,)},
     "units": {"force": (str,), "length": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
     "materials": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
     "supports": ("LIST_OF", {"set": (str,), "box": {"min": (list,), "max": (list,)},
                              "fix": (list, str), "points": (list,)}),
+    "preload": {"case": (str,), "factor": (int, float)},
+    "releases": ("LIST_OF", {"set": (str,), "member": (list,), "cells": (list,),
+                             "start": (list, str), "end": (list, str)}),
+    # engineering check (check.py, codecheck.py, participation.py, effective.py)
+    "checks": {"min_alpha": _num, "codes": (list,), "analysis": (str,), "en1993_elastic_limit": _num,
+               "en1993_plastic_limit": _num, "en1993_amplify_limit": _num, "aisc_alpha": _num,
+               "aisc_max_B2": _num, "fy": _num, "negligible_compression": _num, "twist_limit": _num,
+               "sway_limit": _num, "energy_cut": _num},
+    "imperfection": {"case": (str,), "mode": (int,), "amplitude": _num, "e0": _num, "curve": (str,),
+                     "W": _num, "fy": _num, "gamma_M1": _num, "alpha_ult_k": _num, "member": (int,)},
+    "storeys": ("LIST_OF", {"name": (str,), "case": (str,), "P_story": _num, "P_e_story": _num,
+                            "H": _num, "height": _num, "drift": _num, "P_mf": _num, "R_M": _num}),
 }
 
 SUPPORT_KINDS = {"fixed": [1, 1, 1, 1, 1, 1], "pinned": [1, 1, 1, 0, 0, 0],

@@ -228,8 +228,12 @@ def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=No
         x /= np.linalg.norm(x)
     share = np.abs(x) * np.sqrt(np.abs(Kff.diagonal()))
     names = []
+    n6 = asm.frame.n_dofs if asm is not None else np.inf
     for c in np.argsort(share)[::-1][:limit]:
         node, comp = divmod(int(free[c]), 6)
+        if free[c] >= n6:
+            names.append("a warping DOF")
+            continue
         if node < n_input:
             where = f"point {node}"
         elif coarse_cell is not None:
@@ -238,7 +242,7 @@ def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=No
             where = f"sub-division point {node}"
         names.append(f"{where} {DOF_NAMES[comp]}")
     cells = ""
-    if asm is not None:
+    if asm is not None and hasattr(asm, "Ke") and asm.n == asm.frame.n_dofs:
         from .elements import element_dofs
         u = np.zeros(asm.n)
         u[free] = x

@@ -37,6 +37,7 @@ def atomic_path(target: Path, force: bool = True, protect=()):
         fd, tmp = tempfile.mkstemp(prefix=f".{target.stem}.", suffix=".part" + target.suffix,
                                    dir=target.parent)
         os.close(fd)
+        _default_mode(tmp)
     except OSError as exc:
         raise OutputError(f"cannot write in the output folder: {exc.strerror or exc}",
                           source=str(target.parent)) from None
@@ -67,6 +68,16 @@ def _pause_hook(tmp: Path, target: Path):
     Path(flag).write_text(f"{tmp}\n{target}\n")
     while os.path.exists(flag):
         time.sleep(0.02)
+
+
+def _default_mode(path):
+    """Give a new output the permissions of a normally created file (mkstemp makes it 0600)."""
+    mask = os.umask(0o22)
+    os.umask(mask)
+    try:
+        os.chmod(path, 0o666 & ~mask)
+    except OSError:
+        pass
 
 
 def prepare_dir(out: Path) -> Path:
@@ -127,6 +138,7 @@ def fine_grid(result):
     cells = np.column_stack([np.full(len(e), 2), e]).ravel()
     grid = pv.UnstructuredGrid(cells, np.full(len(e), pv.CellType.LINE, np.uint8), np.asarray(f.nodes))
     grid.cell_data["cell_id"] = np.asarray(result.input.cell_ids[result.refined.element_map])
+    grid.cell_data["bar"] = np.asarray(f.bar, np.uint8)   # pictures draw bars straight
     nc = len(result.cases)
     im = result.input
     for case in im.cases:

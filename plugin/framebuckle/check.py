@@ -1,0 +1,370 @@
+"""The engineering check of a solved model: members, effective lengths, participation,
+stiffening advice, code verdicts and the imperfection; pure data, files are written by
+:func:`write_check`.
+
+Data flow: ``Result`` -> :func:`members.group_members` -> per case and mode
+:func:`participation.element_energies` -> effective lengths, participation,
+sensitivity -> verdicts -> :class:`CheckReport` (summary dict, CSV rows, cell fields).
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from . import codecheck
+from .effective import NEGLIGIBLE, effective_lengths, member_forces
+from .errors import InputError, OutputError
+from .imperfection import imperfect_grid, scale_for
+from .members import Members, group_members
+from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, chord_work, element_energies,
+                            participation)
+from .results import CAUTIONS
+from .sensitivity import bending_sensitivity, ranking, repeated
+from .study import Study
+
+CSV_COLUMNS = ("case", "mode", "load_factor", "mode_type", "member", "cells", "length", "status",
+               "N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "axis", "L_cr",
+               "L_cr_ratio", "slenderness", "energy_share", "sensitivity", "sensitivity_rank")
+
+#: load factors closer than this (relative) are a cluster: sensitivities marked indicative
+CLOSE = 0.01
+
+#: cell fields written on the input mesh (mode 1 of every case)
+CELL_FIELDS = ("N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "slenderness",
+               "energy_share", "sensitivity")
+
+
+@dataclass
+class CheckReport:
+    members: Members
+    summary: dict
+    rows: list                                   # dicts with CSV_COLUMNS
+    cell_fields: dict                            # name -> (n_cells,) float
+    imperfection: dict | None = None
+    imperfection_mode: tuple | None = None       # (case index, mode index, scale)
+    passed: bool = True
+    table: list = field(default_factory=list)    # compact terminal rows
+
+    @property
+    def exit_code(self) -> int:
+        return 0 if self.passed else 1
+
+
+def _settings(study: Study) -> dict:
+    return dict(study.get("checks", default={}) or {})
+
+
+def _storeys(study: Study) -> list:
+    out = []
+    for i, s in enumerate(study.get("storeys", default=[]) or []):
+        where = f"[[storeys]] entry {i + 1}"
+        if "P_story" not in s:
+            raise InputError(f"{where}: P_story is required", source=study.source)
+        if "P_e_story" not in s and not all(k in s for k in ("H", "height", "drift")):
+            raise InputError(f"{where}: give P_e_story, or H, height and drift (AISC 360-16 Eq. A-8-7)",
+                             source=study.source)
+        for k in ("P_story", "P_e_story", "H", "height", "drift"):
+            if k in s and not float(s[k]) > 0:
+                raise InputError(f"{where}: {k} must be positive, got {s[k]}", source=study.source)
+        s = dict(s)
+        s.setdefault("name", str(i + 1))
+        out.append(s)
+    return out
+
+
+def _fy(result, settings) -> np.ndarray | None:
+    fy = result.input.extra.get("fy")
+    default = settings.get("fy")
+    if fy is None:
+        return None if default is None else np.full(result.model.n_elements, float(default))
+    fy = np.asarray(fy, float)
+    if default is not None:
+        fy = np.where(np.isfinite(fy), fy, float(default))
+    return fy
+
+
+def _num(x):
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def _validate_settings(st: dict, source: str):
+    for code in st.get("codes", []):
+        if code not in ("EN1993", "AISC360"):
+            raise InputError(f"[checks] codes: unknown code '{code}' (EN1993, AISC360)", source=source)
+    if st.get("analysis", "elastic") not in ("elastic", "plastic"):
+        raise InputError(f"[checks] analysis must be \"elastic\" or \"plastic\", got {st['analysis']!r}",
+                         source=source)
+    for key in ("min_alpha", "en1993_elastic_limit", "en1993_plastic_limit", "en1993_amplify_limit",
+                "aisc_alpha", "aisc_max_B2", "fy"):
+        if key in st and not (math.isfinite(st[key]) and st[key] > 0):
+            raise InputError(f"[checks] {key} must be a positive number, got {st[key]}", source=source)
+    for key in ("twist_limit", "sway_limit", "energy_cut", "negligible_compression"):
+        if key in st and not 0 < st[key] <= 1:
+            raise InputError(f"[checks] {key} must be in (0, 1], got {st[key]}", source=source)
+
+
+def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
+    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.results.Result`."""
+    study = study or Study()
+    st = _settings(study)
+    _validate_settings(st, study.source)
+    st.setdefault("codes", ["EN1993", "AISC360"])
+    storeys = _storeys(study)
+    gate = float(min_alpha if min_alpha is not None else st.get("min_alpha", codecheck.first_order_limit(st)))
+    im = result.input
+    members = group_members(result.model, im.extra.get("member"), im.source)
+    ctx = {
+        "result": result, "members": members, "fy": _fy(result, st), "storeys": storeys, "gate": gate,
+        "mof": members.of_element[result.refined.element_map],      # member of every fine element
+        "neg": float(st.get("negligible_compression", NEGLIGIBLE)),
+        "limits": (float(st.get("twist_limit", TWIST_LIMIT)), float(st.get("sway_limit", SWAY_LIMIT)),
+                   float(st.get("energy_cut", ENERGY_CUT))),
+        "cells": _cells_text(members, im.cell_ids), "settings": st,
+        "suffix": (lambda name: "") if len(result.cases) == 1 and result.cases[0].name == "default"
+        else (lambda name: f".{name}"),
+    }
+    summary = result.summary()
+    rows, table = [], []
+    fields = {"member": np.full(im.n_cells, np.nan)}
+    fields["member"][im.cell_ids] = members.label[members.of_element]
+    by_name = {c["name"]: c for c in summary["cases"]}
+    for c in result.cases:
+        ok, row = _case(ctx, c, by_name[c.name], rows, fields)
+        table.append(row)
+    passed = all(c["passed"] for c in summary["cases"])
+    imp_info, imp_mode = _imperfection(result, study, members, ctx["fy"], ctx["mof"], result.fine)
+    tl, sl, cut = ctx["limits"]
+    summary["check"] = {
+        "passed": bool(passed), "min_alpha": gate,
+        "min_alpha_from": ("--min-alpha" if min_alpha is not None else
+                           "[checks] min_alpha" if "min_alpha" in st else
+                           f"{codecheck.EN_CLAUSE_FIRST_ORDER} ({st.get('analysis', 'elastic')} analysis)"),
+        "members": {"count": members.n, "from": "cell field 'member'" if members.explicit else
+                    "automatic (collinear chains of equal section through free points)"},
+        "indicators": {"twist_limit": tl, "sway_limit": sl, "energy_cut": cut, "negligible_compression": ctx["neg"]},
+        "imperfection": imp_info,
+    }
+    summary["cautions"] = list(CAUTIONS)
+    return CheckReport(members, summary, rows, fields, imp_info, imp_mode, bool(passed), table)
+
+
+def _case(ctx, c, entry, rows, fields):
+    """Fill the summary entry, CSV rows and cell fields of one case; return (passed, table row)."""
+    result, members = ctx["result"], ctx["members"]
+    im, frame = result.input, result.model
+    axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
+    alpha = c.alpha_cr
+    verdicts = codecheck.case_verdicts(alpha, ctx["settings"], ctx["storeys"], c.name)
+    ok = (alpha is None or alpha >= ctx["gate"]) and all(v["passes"] for v in verdicts if v["code"] == "AISC360")
+    entry.update({"alpha_cr": alpha, "min_alpha": ctx["gate"], "passed": bool(ok), "verdicts": verdicts})
+    if c.status != "ok":
+        N, _ = member_forces(frame, members, axial)
+        for m in range(members.n):
+            rows.append(_row(c.name, None, None, "", members, m, ctx["cells"], N[m],
+                             "tension" if N[m] > 0 else "negligible"))
+        entry.update({"modes": [], "governing_members": [], "stiffen_first": []})
+        return ok, (c.name, None, "-", _verdict_short(verdicts), "-", "-", ok)
+    fine_axial = result.refined.fine_axial(axial)
+    mof = ctx["mof"]
+    en = element_energies(result.fine, c.modes, fine_axial)
+    chord = chord_work(result.fine, c.modes, fine_axial, mof, members.ends, members.length)
+    part = participation(en, chord, mof, members.n, *ctx["limits"])
+    sens = bending_sensitivity(en, mof, members.n)
+    close = repeated(c.load_factors, CLOSE)
+    modes_out = []
+    for i, lam in enumerate(float(x) for x in c.load_factors):
+        eff = effective_lengths(frame, members, axial, lam, part.bend_y[i], part.bend_z[i], ctx["fy"],
+                                ctx["neg"], result.constraints.planar_axis)
+        rank = ranking(sens[i])
+        rk = np.empty(members.n, np.int64)
+        rk[rank] = np.arange(1, members.n + 1)
+        for m in range(members.n):
+            rows.append(_row(c.name, i + 1, lam, part.kinds[i], members, m, ctx["cells"], eff.N_Ed[m],
+                             eff.status[m], eff, part.share[i, m], sens[i, m], rk[m]))
+        carrying = [int(members.label[j]) for j in part.carrying[i]]
+        modes_out.append({
+            "mode": i + 1, "load_factor": lam, "type": part.kinds[i],
+            "twist_share": float(part.twist_share[i]), "sway_share": float(part.sway_share[i]),
+            "members_carrying": carrying[:20], "n_members_carrying": len(carrying),
+            "close_to_another": bool(close[i]),
+            "stiffen_first": [{"member": int(members.label[j]), "d_alpha_d_scale": float(sens[i, j]),
+                               "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 1e-9 * lam],
+        })
+        if i == 0:
+            _put_fields(fields, ctx["suffix"](c.name), im.cell_ids, members, eff, part.share[0], sens[0],
+                        im.n_cells)
+    sway = [m for m in modes_out if m["type"] == "sway"]
+    first = modes_out[0]
+    entry.update({"modes": modes_out, "alpha_cr_sway": sway[0]["load_factor"] if sway else None,
+                  "governing_members": first["members_carrying"], "stiffen_first": first["stiffen_first"]})
+    if close[0]:
+        entry["notes"].append(f"alpha_cr is within {CLOSE:.0%} of another load factor: the modes of such a "
+                              f"cluster mix when stiffness changes, so their sensitivities and stiffening "
+                              f"advice are indicative")
+    if sway and sway[0]["mode"] != 1:
+        entry["notes"].append(f"the lowest mode is of type '{first['type']}'; the lowest global sway "
+                              f"mode is mode {sway[0]['mode']} (alpha = {sway[0]['load_factor']:.4g}); "
+                              f"verdicts use the lowest alpha_cr (conservative)")
+    gov = first["members_carrying"]
+    stiff = first["stiffen_first"]
+    return ok, (c.name, alpha, first["type"], _verdict_short(verdicts),
+                ", ".join(str(x) for x in gov[:4]) + (" ..." if len(gov) > 4 else ""),
+                str(stiff[0]["member"]) if stiff else "-", ok)
+
+
+def _imperfection(result, study, members, fy, mof, fine):
+    imp = dict(study.get("imperfection", default={}) or {})
+    for key in ("amplitude", "W", "fy", "gamma_M1", "alpha_ult_k"):
+        if key in imp and not (math.isfinite(imp[key]) and imp[key] > 0):
+            raise InputError(f"[imperfection] {key} must be a positive number, got {imp[key]}", source=study.source)
+    if "e0" in imp and not (math.isfinite(imp["e0"]) and imp["e0"] >= 0):
+        raise InputError(f"[imperfection] e0 must be >= 0, got {imp['e0']}", source=study.source)
+    ok_cases = [i for i, c in enumerate(result.cases) if c.status == "ok"]
+    if not ok_cases:
+        return ({"skipped": True, "note": "no load case has a buckling mode: no imperfect mesh written"}
+                if imp else None), None
+    if "case" in imp:
+        names = [c.name for c in result.cases]
+        if imp["case"] not in names:
+            raise InputError(f"[imperfection] case = '{imp['case']}' is not a load case; cases: "
+                             f"{', '.join(names)}", source=study.source)
+        ci = names.index(imp["case"])
+        if result.cases[ci].status != "ok":
+            raise InputError(f"[imperfection] case '{imp['case']}' has no buckling mode", source=study.source)
+    else:
+        ci = ok_cases[0]
+    c = result.cases[ci]
+    im = result.input
+    axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
+    fine_axial = result.refined.fine_axial(axial)
+    st = _settings(study)
+    en = element_energies(fine, c.modes, fine_axial)
+    chord = chord_work(fine, c.modes, fine_axial, mof, members.ends, members.length)
+    part = participation(en, chord, mof, members.n, float(st.get("twist_limit", TWIST_LIMIT)),
+                         float(st.get("sway_limit", SWAY_LIMIT)))
+    if "mode" in imp:
+        mi = int(imp["mode"]) - 1
+        if not 0 <= mi < len(c.load_factors):
+            raise InputError(f"[imperfection] mode = {mi + 1}: case '{c.name}' has modes "
+                             f"1..{len(c.load_factors)}", source=study.source)
+    else:   # the lowest mode that has a translational shape
+        flex = [i for i, kind in enumerate(part.kinds) if kind != "torsional"]
+        if not flex:
+            return ({"case": c.name, "skipped": True,
+                     "note": f"every computed mode of case '{c.name}' is torsional: a twist cannot be "
+                             f"carried by point coordinates; no imperfect mesh written (set "
+                             f"[imperfection] mode to force one)"}, None)
+        mi = flex[0]
+    eff = effective_lengths(result.model, members, axial, float(c.load_factors[mi]), part.bend_y[mi],
+                            part.bend_z[mi], fy, float(st.get("negligible_compression", NEGLIGIBLE)),
+                            result.constraints.planar_axis)
+    info = scale_for(result, members, ci, mi, eff, part.share[mi], imp, fy, study.source)
+    info["mode_type"] = part.kinds[mi]
+    return info, (ci, mi, info["scale"])
+
+
+def _put_fields(fields, suffix, cell_ids, members, eff, share, sens, n_cells):
+    vals = {"N_Ed": eff.N_Ed, "N_cr": eff.N_cr, "L_cr_y": eff.L_cr_y, "L_cr_z": eff.L_cr_z,
+            "L_cr_ratio_y": eff.ratio_y, "L_cr_ratio_z": eff.ratio_z, "slenderness": eff.slenderness,
+            "energy_share": share, "sensitivity": sens}
+    for name in CELL_FIELDS:
+        a = np.full(n_cells, np.nan)
+        a[cell_ids] = np.asarray(vals[name], float)[members.of_element]
+        fields[name + suffix] = a
+
+
+def _cells_text(members, cell_ids) -> list:
+    order = np.argsort(members.of_element, kind="stable")
+    split = np.cumsum(np.bincount(members.of_element, minlength=members.n))[:-1]
+    return [" ".join(str(x) for x in np.unique(cell_ids[g])) for g in np.split(order, split)]
+
+
+def _row(case, mode, lam, kind, members, m, cells, N, status, eff=None, share=None, sens=None, rank=None):
+    r = {k: None for k in CSV_COLUMNS}
+    r.update(case=case, mode=mode, load_factor=lam, mode_type=kind, member=int(members.label[m]),
+             cells=cells[m], length=float(members.length[m]), status=str(status), N_Ed=float(N))
+    if eff is not None:
+        r.update(N_cr=_num(eff.N_cr[m]), L_cr_y=_num(eff.L_cr_y[m]), L_cr_z=_num(eff.L_cr_z[m]),
+                 L_cr_ratio_y=_num(eff.ratio_y[m]), L_cr_ratio_z=_num(eff.ratio_z[m]), axis=str(eff.axis[m]),
+                 L_cr=_num(eff.L_cr[m]), L_cr_ratio=_num(eff.ratio[m]), slenderness=_num(eff.slenderness[m]),
+                 energy_share=_num(share), sensitivity=_num(sens), sensitivity_rank=int(rank))
+    return r
+
+
+def _verdict_short(verdicts) -> str:
+    parts = []
+    for v in verdicts:
+        if v["check"] == "first_order_analysis":
+            parts.append("1st order ok" if v["passes"] else "2nd order effects")
+        elif v["check"] == "sway_amplification":
+            parts.append(f"amp {v['amplifier']:.3f}" if v["amplifier"] is not None and v["alpha_cr"] is not None
+                         else ("" if v["passes"] else "2nd order analysis"))
+        elif v["check"] == "storey_amplifier_B2":
+            parts.append(f"B2[{v['storey']}] {v['B2']:.3f}" if v["B2"] is not None else f"B2[{v['storey']}] unstable")
+    return "; ".join(p for p in parts if p)
+
+
+def members_csv(rows) -> str:
+    buf = io.StringIO()
+    w = csv.DictWriter(buf, fieldnames=CSV_COLUMNS, lineterminator="\n")
+    w.writeheader()
+    for r in rows:
+        w.writerow({k: ("" if v is None else (f"{v:.10g}" if isinstance(v, float) else v)) for k, v in r.items()})
+    return buf.getvalue()
+
+
+def format_table(report: CheckReport) -> str:
+    head = ("case", "alpha_cr", "mode", "verdicts", "governing members", "stiffen", "result")
+    rows = [(n, "-" if a is None else f"{a:.4g}", t, v, g, s, "pass" if ok else "FAIL")
+            for n, a, t, v, g, s, ok in report.table]
+    w = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(head)]
+    line = lambda r: "  ".join(f"{x:<{w[i]}}" for i, x in enumerate(r)).rstrip()
+    return "\n".join([line(head), "-" * (sum(w) + 2 * (len(w) - 1))] + [line(r) for r in rows])
+
+
+def write_check(result, report: CheckReport, out_dir, force: bool = False) -> dict:
+    """Write modes (with member cell fields), fine modes, summary, members CSV, imperfect mesh."""
+    from .write import (fine_grid, input_grid, output_stem, prepare_dir, write_grid, write_json,
+                        write_text)
+    out = prepare_dir(Path(out_dir))
+    stem = output_stem(result.input.source)
+    src = result.input.source
+    protect = [src] if src and not src.startswith("<") else []
+    paths = {"modes": out / f"{stem}.modes.vtu", "modes_fine": out / f"{stem}.modes_fine.vtu",
+             "summary": out / f"{stem}.summary.json", "members": out / f"{stem}.members.csv"}
+    if report.imperfection_mode is not None:
+        paths["imperfect"] = out / f"{stem}.imperfect.vtu"
+    if not force:
+        for p in paths.values():
+            if p.exists():
+                raise OutputError("output exists; use --force to replace it", source=str(p))
+    grid = input_grid(result)
+    if grid.n_cells != result.input.n_cells:
+        raise OutputError(f"the output mesh has {grid.n_cells} cells, the input {result.input.n_cells}",
+                          source=str(paths["modes"]))
+    for name, a in report.cell_fields.items():
+        grid.cell_data[name] = a
+    summary = report.summary
+    if report.imperfection_mode is not None:
+        ci, mi, s = report.imperfection_mode
+        igrid, note, moved = imperfect_grid(result, ci, mi, s)
+        report.imperfection["largest_translation_at_input_points"] = moved
+        if note:
+            report.imperfection["note"] = note
+    write_grid(grid, paths["modes"], True, protect)
+    write_grid(fine_grid(result), paths["modes_fine"], True, protect)
+    write_text(paths["members"], members_csv(report.rows), True, protect)
+    if report.imperfection_mode is not None:
+        write_grid(igrid, paths["imperfect"], True, protect)
+    summary["outputs"] = {k: str(v) for k, v in paths.items()}
+    write_json(paths["summary"], summary, True, protect)
+    return paths
