@@ -77,6 +77,8 @@ def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
         with contextlib.redirect_stdout(said), contextlib.redirect_stderr(said):
             if p.suffix.lower() in (".xdmf", ".xmf"):
                 mesh, steps = _read_xdmf(p)
+            elif p.suffix.lower() == ".msh":
+                mesh = _read_msh(p)
             else:
                 mesh = meshio.read(p)
     except InputError:
@@ -91,6 +93,47 @@ def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
         raise InputError(f"cannot read the mesh ({kind}: {msg}); the file may be truncated, "
                          f"corrupt or of an unsupported format", source=src) from None
     return mesh, steps
+
+
+def _read_msh(p: Path) -> meshio.Mesh:
+    """Gmsh MSH through meshio, with point fields put in the order of the points.
+
+    meshio (5.3) stores the points of an MSH 4.1 file in the order of the file's node
+    blocks (one per geometric entity) but its ``$NodeData`` fields in node-tag order; when
+    the two differ every point field would belong to another point.  The node tags are
+    captured while meshio reads the file and the point fields are permuted to match.
+    """
+    import meshio.gmsh._gmsh41 as g41
+
+    captured = []
+    original = g41._read_nodes
+
+    def _read_nodes(*args, **kwargs):
+        points, tags, dim_tags = original(*args, **kwargs)
+        captured.append(np.asarray(tags).copy())
+        return points, tags, dim_tags
+
+    g41._read_nodes = _read_nodes
+    try:
+        mesh = meshio.read(p)
+    finally:
+        g41._read_nodes = original
+    if not captured:
+        return mesh                       # MSH 2.2 stores node data by position
+    tags = captured[-1]                   # 0-based node tag of each point, file order
+    n = len(mesh.points)
+    if np.array_equal(tags, np.arange(n)):
+        return mesh
+    if tags.min() < 0 or tags.max() >= n or len(np.unique(tags)) != n:
+        fields = [k for k in mesh.point_data if not k.startswith("gmsh:")]
+        if fields:
+            raise InputError(f"node tags are not 1..{n}, so point fields {', '.join(fields)} cannot "
+                             f"be matched to points", source=str(p))
+        return mesh
+    for k in list(mesh.point_data):
+        if not k.startswith("gmsh:"):
+            mesh.point_data[k] = np.asarray(mesh.point_data[k])[tags]
+    return mesh
 
 
 def _read_xdmf(p: Path):

@@ -145,9 +145,6 @@ def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, sou
     free = cons.free
     Kff = sp.csr_matrix(K)[free][:, free]
     d = np.abs(Kff.diagonal())
-    loose = np.flatnonzero(d <= 1e-14 * (d.max() if d.size else 1.0))
-    if loose.size:  # no stiffness at all in these directions (e.g. a bar chain sideways)
-        raise ModelError(_mechanism_message(free[loose], frame, n_input, coarse_cell), source=source)
     try:
         f = Factor(Kff)
         piv, cols = f.pivots()
