@@ -187,9 +187,13 @@ def test_sensitivity_against_finite_differences(kw):
         fd = (_alpha_scaled(F.portal, cells, **kw) - a0) / 0.01
         # first-order eigenvalue derivative vs forward difference, 2 % (common practice)
         assert sens[m] == pytest.approx(fd, rel=0.02), m
-    # the ranking follows the derivative
+    # the ranking follows the derivative (equal values, e.g. symmetric columns, may come in
+    # member order)
     ranked = [s["member"] for s in rep.summary["cases"][0]["stiffen_first"]]
-    assert ranked == sorted(sens, key=lambda k: -sens[k])[:len(ranked)]
+    vals = [sens[m] for m in ranked]
+    top = max(abs(v) for v in sens.values())
+    assert all(a >= b - 1e-9 * top for a, b in zip(vals, vals[1:]))
+    assert ranked[0] == max(sens, key=lambda k: sens[k]) or abs(sens[ranked[0]] - max(sens.values())) <= 1e-9 * top
 
 
 def test_sensitivity_explicit_members_3d():

@@ -138,3 +138,25 @@ def test_gmsh_physical_tags_are_per_dimension(tmp_path):
     assert sets["base"].tolist() == [0]
     assert sets["members"].tolist() == [0, 1, 2, 3]
     assert not any(k.startswith("gmsh:") for k in sets)
+
+
+def test_msh_point_fields_follow_their_points():
+    """meshio reads MSH 4.1 points in node-block order but node data in tag order; the
+    reader must put point fields back on their points (checked against the VTU of the
+    same model, matched by coordinates; common practice)."""
+    import meshio
+    import numpy as np
+    from scipy.spatial import cKDTree
+
+    from framebuckle.read import read_mesh
+
+    here = Path(__file__).resolve().parents[1] / "sample_meshes"
+    vtu = meshio.read(here / "footbridge.vtu")
+    msh, _ = read_mesh(here / "footbridge.msh")
+    dist, idx = cKDTree(vtu.points).query(msh.points)
+    assert dist.max() == 0.0
+    assert not np.array_equal(idx, np.arange(len(idx)))      # the file really is reordered
+    fields = [k for k in msh.point_data if k.startswith("displacement")]
+    assert fields
+    for k in fields:
+        np.testing.assert_array_equal(np.asarray(vtu.point_data[k])[idx], msh.point_data[k])
