@@ -167,7 +167,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     check = options.get("mesh_check", "auto")
     if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
         fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))
-        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None))
+        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None, geo))
     notes = list(im.notes) + list(cons.notes)
     if wrest is not None:
         notes = [n for n in notes if not n.startswith("warping constant Iw given: torsion uses")]
@@ -196,12 +196,16 @@ def _ignore_unused(cons, fine):
     return replace(cons, fixed=fixed, free=np.flatnonzero(~fixed), notes=tuple(cons.notes) + note)
 
 
-def _mesh_check_orders(im, warping_dofs=False) -> dict:
-    """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
+def _mesh_check_orders(im, warping_dofs=False, geo=None) -> dict:
+    """Convergence order of alpha_cr per case (see framebuckle.adequacy).
+
+    Moment terms lower the order only where they are used in the geometric stiffness.
+    """
     f = im.frame
     shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
+    used = (lambda c: c.extra.get("moments") is not None) if geo is None else geo.has_moments
     return {c.name: _adequacy.ORDER_TWIST for c in im.cases
-            if shear or (c.extra.get("moments") is not None and not warping_dofs)}
+            if shear or (used(c) and not warping_dofs)}
 
 
 def _moment_setting(value, st, source):

@@ -448,9 +448,12 @@ def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
             if label in by_name:
                 c = out[by_name[label]]
                 rel, i = disagreement(c.axial, axial)
-                extra["notes"] = [f"axial forces recovered from '{dname}' differ from the given axial force "
-                                  f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
-                                  f"the given axial forces are used"
+                extra["notes"] = [(f"axial forces recovered from '{dname}' agree with the given axial "
+                                   f"forces (largest difference {100 * rel:.1g} % of the largest |N|)"
+                                   if rel < 1e-6 else
+                                   f"axial forces recovered from '{dname}' differ from the given axial force "
+                                   f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
+                                   f"the given axial forces are used")
                                   + ("; check that the displacement fields belong to this mesh and its "
                                      "point order" if rel > 0.01 else "")]
                 out[by_name[label]] = LoadCase(c.name, c.axial, {**c.extra, **extra})
