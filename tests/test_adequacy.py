@@ -51,3 +51,15 @@ def test_mesh_check_switch():
     with pytest.raises(fb.InputError, match="mesh_check"):
         fb.solve(m, {"analysis": {"mesh_check": "sometimes"}})
     assert richardson(1.0, 0.5, 1) == pytest.approx(0.0)
+
+
+def test_unused_recovered_moments_keep_the_flexural_order():
+    """Moments recovered from rotations but not used (moment_terms = "auto") must not lower the
+    Richardson order: the Euler-Bernoulli element converges as h^4 (common practice, see
+    framebuckle.adequacy)."""
+    from pathlib import Path
+    sample = Path(__file__).resolve().parents[1] / "sample_meshes" / "workshop_portal.vtu"
+    res = fb.solve(sample, modes=1)
+    for c in res.cases:
+        assert c.mesh_check["order"] == 4
+        assert c.mesh_check["adequate"]

@@ -3,15 +3,17 @@
 from __future__ import annotations
 
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 
 from . import adequacy as _adequacy
+from . import sanity, verify
 from . import preload as _preload
 from . import warping as _warping
 from .assemble import Assembler
-from .errors import InputError
+from .errors import InputError, ModelError, SolverError
 from .read import InputModel, read_input
 from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
@@ -96,25 +98,30 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     fine = ref.frame
     n_in = im.frame.n_nodes
     wrest = options.get("warping")
-    if wrest is None:
-        asm = Assembler.build(fine)
-        K = asm.stiffness()
-        cons = find_constraints(fine, K, planar)
-        check_supported(fine, cons, n_in, im.source)
-    else:                                   # warping DOFs (framebuckle.warping)
-        asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
-                                        ref.fine_axial(im.extra["J_raw"]),
-                                        np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
-        K = asm.stiffness()
-        cons = asm.constraints(fine, K, planar, n_in, im.source)
+    warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
     coarse_cell = _interior_cell(ref, im)
-    timings["assembly"] = time.perf_counter() - t
-    t = time.perf_counter()
-    stage(f"factorizing ({len(cons.free)} free DOFs)")
-    factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
-    timings["factorization"] = time.perf_counter() - t
+    try:
+        if wrest is None:
+            asm = Assembler.build(fine)
+            K = asm.stiffness()
+            cons = _ignore_unused(find_constraints(fine, K, planar), fine)
+            check_supported(fine, cons, n_in, im.source)
+        else:                                   # warping DOFs (framebuckle.warping)
+            asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
+                                            ref.fine_axial(im.extra["J_raw"]),
+                                            np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
+            K = asm.stiffness()
+            cons = _ignore_unused(asm.constraints(fine, K, planar, n_in, im.source), fine)
+        timings["assembly"] = time.perf_counter() - t
+        t = time.perf_counter()
+        stage(f"factorizing ({len(cons.free)} free DOFs)")
+        factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
+        timings["factorization"] = time.perf_counter() - t
+    except ModelError as exc:
+        raise _explained(exc, warnings) from None
     timings["cases"] = []
     free = cons.free
+    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
     geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
     pre = None
     if options.get("preload"):
@@ -133,7 +140,19 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
             continue
         Gff = geo(case)[free][:, free]
-        er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+        try:
+            er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+            try:
+                checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
+            except verify.MissedLoadFactor:
+                if er.method == "dense" or len(free) > verify.DENSE_RETRY:
+                    raise
+                # iterative solvers can skip copies of a repeated load factor: solve densely
+                er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
+                checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
+                checks["retried_dense"] = True
+        except SolverError as exc:
+            raise _explained(exc, warnings) from None
         if len(er.load_factors) == 0:
             cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                     method=er.method))
@@ -155,16 +174,19 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         if er.cluster_continues:
             notes.append(f"load factor {er.load_factors[-1]:.6g} repeats beyond mode {k}: the cluster "
                          f"continues past the requested modes (ask for more with --modes)")
+        if checks.get("retried_dense"):
+            notes.append("the iterative eigensolver returned too few copies of a repeated load factor "
+                         "(found by the Sturm count); this case was solved again with the dense solver")
         notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
         cases.append(CaseResult(case.name, "ok", er.load_factors, normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max())),
-                                er.residuals, er.cluster_continues, er.method, notes))
+                                er.residuals, er.cluster_continues, er.method, notes, checks))
         timings["cases"].append(time.perf_counter() - t)
         if progress:
             progress(case.name)
     check = options.get("mesh_check", "auto")
     if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
         fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))
-        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None))
+        _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None, geo))
     notes = list(im.notes) + list(cons.notes)
     if wrest is not None:
         notes = [n for n in notes if not n.startswith("warping constant Iw given: torsion uses")]
@@ -172,17 +194,39 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                 "mesh_check": check, "warping": "equivalent" if wrest is None else "dof"}
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
-    res = Result(im, ref, cons, cases, notes, settings)
+    res = Result(im, ref, cons, cases, notes, settings, warnings)
     res.timings.update(timings)
     return res
 
 
-def _mesh_check_orders(im, warping_dofs=False) -> dict:
-    """Convergence order of alpha_cr per case (see framebuckle.adequacy)."""
+def _explained(exc, warnings):
+    """The same error with the plausibility warnings that may explain it appended."""
+    if not warnings:
+        return exc
+    return type(exc)(str(exc) + "".join(f"\n  possible reason: {w}" for w in warnings))
+
+
+def _ignore_unused(cons, fine):
+    """Fix every DOF of points no member uses (they carry no stiffness and no load)."""
+    unused = sanity.unused_points(fine)
+    if unused.size == 0:
+        return cons
+    fixed = cons.fixed.copy()
+    fixed[: fine.n_dofs].reshape(-1, 6)[unused] = True
+    note = (f"{unused.size} point(s) used by no member were ignored (first: point {int(unused[0])})",)
+    return replace(cons, fixed=fixed, free=np.flatnonzero(~fixed), notes=tuple(cons.notes) + note)
+
+
+def _mesh_check_orders(im, warping_dofs=False, geo=None) -> dict:
+    """Convergence order of alpha_cr per case (see framebuckle.adequacy).
+
+    Moment terms lower the order only where they are used in the geometric stiffness.
+    """
     f = im.frame
     shear = any(a is not None and np.isfinite(a[~f.bar]).any() for a in (f.Asy, f.Asz))
+    used = (lambda c: c.extra.get("moments") is not None) if geo is None else geo.has_moments
     return {c.name: _adequacy.ORDER_TWIST for c in im.cases
-            if shear or (c.extra.get("moments") is not None and not warping_dofs)}
+            if shear or (used(c) and not warping_dofs)}
 
 
 def _moment_setting(value, st, source):

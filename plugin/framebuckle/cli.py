@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import signal
 import sys
 from pathlib import Path
 
@@ -191,6 +192,8 @@ def print_result(result, paths, stream=None):
           f"{m['dofs']} DOFs after sub-division ({m['free_dofs']} free)", file=stream)
     for n in s["notes"]:
         print(f"note: {n}", file=stream)
+    for w in getattr(result, "warnings", ()):
+        print(f"framebuckle: warning: {w}", file=sys.stderr)
     print(_fmt_table(result), file=stream)
     for c in result.cases:
         for n in c.notes:
@@ -249,6 +252,10 @@ def cmd_batch(args) -> int:
     return 0
 
 
+def _terminate(signum, frame):
+    raise KeyboardInterrupt   # SIGTERM: unwind like Ctrl-C so temporary outputs are removed
+
+
 def cmd_check(args) -> int:
     """Exit 0 when every case passes, 1 when any fails (2 on bad input, from main)."""
     import json
@@ -290,6 +297,10 @@ def cmd_check(args) -> int:
 def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    try:
+        signal.signal(signal.SIGTERM, _terminate)
+    except ValueError:        # not in the main thread (embedded use): keep the default
+        pass
     try:
         return int(args.func(args) or 0)
     except FrameBuckleError as exc:

@@ -21,7 +21,9 @@ Input contract (default field names; a study file may rename them):
 
 from __future__ import annotations
 
+import contextlib
 import copy
+import io
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -69,15 +71,22 @@ def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
     if not p.is_file():
         raise InputError("not a file", source=src)
     steps = []
+    said = io.StringIO()
     try:
-        if p.suffix.lower() in (".xdmf", ".xmf"):
-            mesh, steps = _read_xdmf(p)
-        elif p.suffix.lower() == ".msh":
-            mesh = _read_msh(p)
-        else:
-            mesh = meshio.read(p)
+        # meshio prints its reader's complaint and calls sys.exit(1) on some corrupt files
+        with contextlib.redirect_stdout(said), contextlib.redirect_stderr(said):
+            if p.suffix.lower() in (".xdmf", ".xmf"):
+                mesh, steps = _read_xdmf(p)
+            elif p.suffix.lower() == ".msh":
+                mesh = _read_msh(p)
+            else:
+                mesh = meshio.read(p)
     except InputError:
         raise
+    except SystemExit:
+        lines = [ln.strip() for ln in said.getvalue().splitlines() if ln.strip()]
+        raise InputError(f"cannot read the mesh ({'; '.join(lines[:2]) or 'unreadable'}); the file "
+                         f"may be truncated, corrupt or of an unsupported format", source=src) from None
     except Exception as exc:  # meshio raises many kinds for corrupt files
         kind = type(exc).__name__
         msg = str(exc).strip().splitlines()[0] if str(exc).strip() else kind
@@ -276,6 +285,12 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
                              for b, n in zip(blocks, per_cell)])
     elements = np.concatenate(conn)
     cell_ids = np.concatenate(cell_ids)
+    outside = np.flatnonzero((elements < 0).any(1) | (elements >= len(mesh.points)).any(1))
+    if outside.size:
+        i = outside[0]
+        raise InputError(f"cell {cell_ids[i]} refers to point(s) {elements[i].tolist()}, but the file "
+                         f"has {len(mesh.points)} points (0 .. {len(mesh.points) - 1}); "
+                         f"{outside.size} such cell(s)", source=src)
     ne_cells = int(sum(per_cell))
 
     def cf(ours, ncomp=None):
@@ -319,7 +334,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             props[name] = np.where(is_bar & ~np.isfinite(props[name]), 1.0, props[name])
     for name, a in props.items():
         if a is not None and np.isnan(a).any() and name not in ("Iw", "fy", "Asy", "Asz"):
-            raise InputError(f"field '{study.field_name(name)}' has no value for cell "
+            raise InputError(f"field '{study.field_name(name)}' has no value (NaN) for cell "
                              f"{cell_ids[np.flatnonzero(np.isnan(a))[0]]}", source=src)
 
     # warping: equivalent torsion constant over the input cell's length
@@ -433,9 +448,12 @@ def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
             if label in by_name:
                 c = out[by_name[label]]
                 rel, i = disagreement(c.axial, axial)
-                extra["notes"] = [f"axial forces recovered from '{dname}' differ from the given axial force "
-                                  f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
-                                  f"the given axial forces are used"
+                extra["notes"] = [(f"axial forces recovered from '{dname}' agree with the given axial "
+                                   f"forces (largest difference {100 * rel:.1g} % of the largest |N|)"
+                                   if rel < 1e-6 else
+                                   f"axial forces recovered from '{dname}' differ from the given axial force "
+                                   f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
+                                   f"the given axial forces are used")
                                   + ("; check that the displacement fields belong to this mesh and its "
                                      "point order" if rel > 0.01 else "")]
                 out[by_name[label]] = LoadCase(c.name, c.axial, {**c.extra, **extra})

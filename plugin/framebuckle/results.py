@@ -26,6 +26,7 @@ class CaseResult:
     cluster_continues: bool = False
     method: str = ""
     notes: list = field(default_factory=list)
+    checks: dict = field(default_factory=dict)   # verify.check_case: residuals, Sturm count, ...
     mesh_check: dict | None = None   # see framebuckle.adequacy
 
     @property
@@ -48,6 +49,7 @@ class Result:
     cases: list
     notes: list
     settings: dict
+    warnings: list = field(default_factory=list)   # sanity / conditioning warnings
     timings: dict = field(default_factory=dict)   # seconds per stage (read, assembly, ...)
 
     @property
@@ -90,6 +92,7 @@ class Result:
                 "max_residual": float(c.residuals.max()) if len(c.residuals) else None,
                 "eigensolver": c.method,
                 "notes": list(c.notes) + ([c.message()] if c.message() else []),
+                "checks": dict(c.checks),
                 "mesh_check": None if c.mesh_check is None else dict(c.mesh_check),
             } for c in self.cases],
             "model": {"nodes": int(self.input.frame.n_nodes), "elements": int(self.input.frame.n_elements),
@@ -101,6 +104,7 @@ class Result:
             "settings": dict(self.settings),
             "units": dict(self.input.units),
             "notes": list(self.notes),
+            "warnings": list(self.warnings),
             "cautions": list(CAUTIONS),
         }
 

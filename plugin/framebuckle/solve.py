@@ -157,6 +157,7 @@ def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, sou
         f2 = Factor(shifted)
         piv, cols = f2.pivots()
         bad = cols[np.abs(piv) / np.maximum(d[cols], 1e-300) < 1e-6]
+        bad = np.union1d(bad, np.flatnonzero(d <= 1e-14 * d.max()))  # DOFs with no stiffness at all
         if bad.size == 0:
             bad = cols[np.argsort(np.abs(piv) / np.maximum(d[cols], 1e-300))[:1]]
     if bad.size:

@@ -43,6 +43,7 @@ def atomic_path(target: Path, force: bool = True, protect=()):
                           source=str(target.parent)) from None
     try:
         yield Path(tmp)
+        _pause_hook(Path(tmp), target)
         os.replace(tmp, target)
     except BaseException:
         try:
@@ -50,6 +51,23 @@ def atomic_path(target: Path, force: bool = True, protect=()):
         except OSError:
             pass
         raise
+
+
+#: Test hook (used only by tests/test_nothing_lost.py): when this environment variable names a
+#: file, every atomic write, after writing its temporary file and before renaming it into place,
+#: writes "<temporary path>\n<target path>" to that file and waits until the file is removed.
+#: A test can thus kill the process at a known point of a write.
+PAUSE_ENV = "FRAMEBUCKLE_TEST_PAUSE_FILE"
+
+
+def _pause_hook(tmp: Path, target: Path):
+    flag = os.environ.get(PAUSE_ENV)
+    if not flag:
+        return
+    import time
+    Path(flag).write_text(f"{tmp}\n{target}\n")
+    while os.path.exists(flag):
+        time.sleep(0.02)
 
 
 def _default_mode(path):

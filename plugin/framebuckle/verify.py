@@ -1,0 +1,259 @@
+r"""Checks of a computed eigensolution before it is reported.
+
+A wrong load factor printed with confidence is worse than none, so every
+case's result passes four checks (:func:`check_case`), otherwise a
+:class:`~framebuckle.errors.SolverError` is raised:
+
+1. **convergence**: the load factors are finite, positive and ascending, no
+   more than requested, and every mode is a finite, non-zero vector;
+2. **residuals**: :math:`\|(K + \lambda_i K_g)\phi_i\| / \|K\phi_i\|` below
+   :data:`RESIDUAL_TOL` (recomputed here, independent of the solver);
+3. **K-orthogonality**: :math:`|\phi_i^T K \phi_j| / \sqrt{(\phi_i^T K \phi_i)
+   (\phi_j^T K \phi_j)}` below :data:`ORTHO_TOL` for distinct load factors
+   (eigenvectors of a symmetric pencil with :math:`K` positive definite are
+   K-orthogonal; Bathe 1996, Finite Element Procedures, ch. 10, from memory);
+4. **Sturm sequence count**: by Sylvester's law of inertia the number of
+   negative pivots of an :math:`LDL^T` factorization of
+   :math:`K + \sigma K_g` equals the number of load factors in
+   :math:`(0, \sigma)` (with :math:`K` positive definite, each eigenpair of
+   :math:`-K_g\phi = \mu K\phi` gives the eigenvalue :math:`1 - \sigma\mu` of
+   the congruent matrix, negative exactly when :math:`0 < 1/\mu < \sigma`;
+   Bathe 1996, Finite Element Procedures, sec. 8.2.5, from memory).  With :math:`\sigma` slightly above the
+   highest reported load factor the count must equal the number reported;
+   a larger count means the solver missed a load factor and the result is
+   refused.  The count is recorded in the summary.
+
+Small problems use the dense Bunch-Kaufman factorization
+(``scipy.linalg.ldl``); large ones a sparse LU in symmetric mode with no
+off-diagonal pivoting, whose ``U`` has the diagonal of :math:`D`
+(:math:`A = L D L^T = L U`); it is accepted only if the row and column
+permutations agree and a test solve is accurate, otherwise the dense
+factorization is used when affordable.
+
+:func:`stiffness_warnings` estimates the condition number of the free-free
+stiffness, :math:`\kappa_1(K) \approx \|K\|_1\,\mathrm{est}\|K^{-1}\|_1`
+(Higham & Tisseur 2000, SIAM J. Matrix Anal. Appl. 21(4), block 1-norm
+estimator, ``scipy.sparse.linalg.onenormest``), and names the DOFs with the
+smallest pivot relative to their diagonal when it is large.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import scipy.linalg as sla
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from .errors import SolverError
+from .model import DOF_NAMES
+
+#: relative eigen-residual above which a mode is refused
+RESIDUAL_TOL = 1e-6
+#: largest normalised K-inner product of two modes with distinct load factors
+ORTHO_TOL = 1e-5
+#: relative gap below which two load factors count as one repeated value
+CLUSTER_TOL = 1e-6
+#: the Sturm shift: sigma = (1 + STURM_GAP) * highest reported load factor
+STURM_GAP = 1e-4
+#: when fewer modes than requested exist, no load factor may lie below this times the highest
+STURM_FAR = 1e3
+#: free DOFs up to which the Sturm count uses the dense LDL^T factorization
+DENSE_STURM = 300
+#: free DOFs up to which the dense LDL^T is the fall-back of the sparse one
+DENSE_FALLBACK = 2000
+#: condition-number estimate of K above which a warning is given
+COND_WARN = 1e11
+
+
+#: free DOFs up to which a case whose iterative solution missed load factors is solved again densely
+DENSE_RETRY = 1500
+
+
+class MissedLoadFactor(SolverError):
+    """The Sturm count shows load factors the eigensolver did not return."""
+
+
+# ------------------------------------------------------------------ inertia
+
+
+def negative_count(A) -> tuple[int | None, str]:
+    """Number of negative eigenvalues of the symmetric matrix ``A`` and the method used.
+
+    Returns ``(None, reason)`` when no reliable factorization was found.
+    """
+    n = A.shape[0]
+    if n == 0:
+        return 0, "empty"
+    if n <= DENSE_STURM:
+        return _dense_negative(A), "dense LDL^T"
+    A = sp.csc_matrix(A)
+    for spec in ("MMD_AT_PLUS_A", "COLAMD"):
+        try:
+            lu = spla.splu(A, permc_spec=spec, diag_pivot_thresh=0.0,
+                           options={"SymmetricMode": True})
+        except RuntimeError:       # exactly singular: sigma hit an eigenvalue
+            continue
+        if not np.array_equal(lu.perm_r, lu.perm_c):
+            continue               # off-diagonal pivots: U's diagonal is not D's
+        b = np.random.default_rng(0).standard_normal(n)
+        x = lu.solve(b)
+        err = np.linalg.norm(A @ x - b) / max(np.linalg.norm(b), 1e-300)
+        if np.isfinite(err) and err < 1e-6:
+            return int((lu.U.diagonal() < 0).sum()), f"sparse LDL^T ({spec})"
+    if n <= DENSE_FALLBACK:
+        return _dense_negative(A), "dense LDL^T (fall-back)"
+    return None, "no stable symmetric factorization without off-diagonal pivoting"
+
+
+def _dense_negative(A) -> int:
+    A = A.toarray() if sp.issparse(A) else np.asarray(A)
+    _, d, _ = sla.ldl(A, lower=True, hermitian=True)
+    # d is block diagonal with 1x1 and 2x2 blocks: a symmetric tridiagonal matrix
+    ev = sla.eigvalsh_tridiagonal(np.diag(d).copy(), np.diag(d, -1).copy())
+    return int((ev < 0).sum())
+
+
+# ------------------------------------------------------------------ checks
+
+
+def check_case(Kff, Gff, er, k: int, source: str, case: str) -> dict:
+    """Refuse a wrong eigensolution; return the record of the checks for the summary."""
+    lam = np.asarray(er.load_factors, float)
+    V = np.asarray(er.modes, float)
+    where = f"case '{case}'"
+    if len(lam) == 0:
+        return {}
+    # 1. convergence
+    if len(lam) > k or V.shape != (Kff.shape[0], len(lam)):
+        raise SolverError(f"{where}: the eigensolver returned {len(lam)} load factors and modes of "
+                          f"shape {V.shape} for {k} requested", source=source)
+    if not np.isfinite(lam).all() or (lam <= 0).any() or (np.diff(lam) < 0).any():
+        raise SolverError(f"{where}: the eigensolver returned load factors that are not finite, "
+                          f"positive and ascending: {lam.tolist()}", source=source)
+    KV = Kff @ V
+    kn = np.einsum("ij,ij->j", V, KV)
+    if not np.isfinite(V).all() or (kn <= 0).any():
+        i = int(np.flatnonzero(~np.isfinite(V).all(axis=0) | (kn <= 0))[0])
+        raise SolverError(f"{where}: mode {i + 1} is not a valid vector (not finite or zero)",
+                          source=source)
+    # 2. residuals
+    res = np.linalg.norm(KV + lam * (Gff @ V), axis=0) / np.maximum(np.linalg.norm(KV, axis=0), 1e-300)
+    if (res > RESIDUAL_TOL).any():
+        i = int(np.argmax(res))
+        raise SolverError(f"{where}: mode {i + 1} (load factor {lam[i]:.6g}) did not converge: "
+                          f"||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g}",
+                          source=source)
+    # 3. K-orthogonality
+    C = (V.T @ KV) / np.sqrt(np.outer(kn, kn))
+    same = np.abs(lam[:, None] - lam[None, :]) <= CLUSTER_TOL * np.abs(lam[None, :])
+    off = np.abs(C - np.diag(np.diag(C)))
+    limit = np.where(same, 0.5, ORTHO_TOL)    # repeated values: independent, not necessarily orthogonal
+    bad = off > limit
+    ortho = float(off[~same].max()) if (~same).any() else 0.0
+    if bad.any():
+        i, j = (int(x) for x in np.argwhere(bad)[0])
+        raise SolverError(f"{where}: modes {i + 1} and {j + 1} are not K-orthogonal "
+                          f"(normalised phi_i^T K phi_j = {off[i, j]:.2e}); the eigensolution is "
+                          f"not reliable", source=source)
+    # 4. Sturm sequence count
+    out = {"max_residual": float(res.max()), "max_k_orthogonality": ortho}
+    out.update(sturm_check(Kff, Gff, lam, k, source, case))
+    return out
+
+
+def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
+    r"""Confirm with inertia counts that no load factor below the highest reported was missed."""
+    lam = np.sort(np.asarray(lam, float))
+    where = f"case '{case}'"
+    top = float(lam[-1])
+    complete = len(lam) >= k
+    sigma = top * (1.0 + STURM_GAP) if complete else top * STURM_FAR
+    n_hi, how = negative_count(Kff + sigma * Gff)
+    rec = {"sturm_shift": sigma, "sturm_count": n_hi, "sturm_expected": int(len(lam)),
+           "sturm_method": how}
+    if n_hi is None:
+        rec["sturm_note"] = "Sturm sequence check not done: " + how
+        return rec
+    if n_hi < len(lam):
+        raise SolverError(f"{where}: the Sturm sequence count finds {n_hi} load factor(s) below "
+                          f"{sigma:.6g} but {len(lam)} were reported: the reported values are not "
+                          f"all genuine", source=source)
+    if n_hi == len(lam):
+        return rec
+    if not complete:
+        raise MissedLoadFactor(f"{where}: the eigensolver returned {len(lam)} of the {k} requested load "
+                          f"factors, but the Sturm sequence count finds {n_hi} below {sigma:.6g}: "
+                          f"modes were missed (not converged)", source=source)
+    # more below sigma than reported: are they above the top value (a near-repeated
+    # value just past the requested modes) or below it (missed)?
+    lo = top * (1.0 - STURM_GAP)
+    n_lo, how_lo = negative_count(Kff + lo * Gff)
+    expect_lo = int((lam < lo).sum())
+    rec.update({"sturm_shift_low": lo, "sturm_count_low": n_lo})
+    if n_lo is not None and n_lo > expect_lo:
+        raise MissedLoadFactor(f"{where}: the Sturm sequence count finds {n_lo} load factor(s) below "
+                          f"{lo:.6g} but only {expect_lo} were reported there: the eigensolver "
+                          f"missed a load factor; the result is refused", source=source)
+    rec["sturm_note"] = (f"{n_hi - len(lam)} more load factor(s) lie within "
+                         f"{100 * STURM_GAP:g} % of the highest reported one ({top:.6g}); ask for "
+                         f"more modes to see them")
+    return rec
+
+
+def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=None,
+                       limit: int = 5) -> tuple[list, float]:
+    r"""Warn when K is near-singular; name the DOFs and cells of its softest deformation.
+
+    The softest deformation is the eigenvector of the smallest eigenvalue of
+    :math:`K`, found by a few steps of inverse iteration with the existing
+    factorization; its DOFs are ranked by :math:`|x_i|\sqrt{K_{ii}}` (their share
+    of the strain energy) and, given the assembler ``asm``, its cells by their
+    strain energy :math:`u_e^T K_e u_e`.
+    """
+    n = Kff.shape[0]
+    if n == 0:
+        return [], 1.0
+    op = spla.LinearOperator((n, n), matvec=factor.solve, rmatvec=factor.solve,
+                             matmat=factor.solve, dtype=float)
+    try:
+        inv_norm = spla.onenormest(op) if n > 4 else np.abs(factor.solve(np.eye(n))).sum(0).max()
+    except Exception:          # the estimator is advisory; never stop a run for it
+        return [], float("nan")
+    cond = float(spla.norm(Kff, 1) * inv_norm)
+    if not np.isfinite(cond) or cond <= COND_WARN:
+        return [], cond
+    x = np.random.default_rng(0).standard_normal(n)
+    for _ in range(8):
+        x = factor.solve(x)
+        x /= np.linalg.norm(x)
+    share = np.abs(x) * np.sqrt(np.abs(Kff.diagonal()))
+    names = []
+    n6 = asm.frame.n_dofs if asm is not None else np.inf
+    for c in np.argsort(share)[::-1][:limit]:
+        node, comp = divmod(int(free[c]), 6)
+        if free[c] >= n6:
+            names.append("a warping DOF")
+            continue
+        if node < n_input:
+            where = f"point {node}"
+        elif coarse_cell is not None:
+            where = f"a sub-division point of cell {int(coarse_cell[node])}"
+        else:
+            where = f"sub-division point {node}"
+        names.append(f"{where} {DOF_NAMES[comp]}")
+    cells = ""
+    if asm is not None and hasattr(asm, "Ke") and asm.n == asm.frame.n_dofs:
+        from .elements import element_dofs
+        u = np.zeros(asm.n)
+        u[free] = x
+        ue = u[element_dofs(asm.frame)]
+        energy = np.einsum("ei,eij,ej->e", ue, asm.Ke, ue)
+        per_cell = np.bincount(asm.frame.parent, weights=energy)
+        top = np.argsort(per_cell)[::-1]
+        top = top[per_cell[top] >= 0.1 * per_cell.sum()][:limit]
+        if top.size:
+            cells = f" The softest deformation strains mostly cell(s) {', '.join(str(int(c)) for c in top)}."
+    return [f"the stiffness matrix is near-singular (condition number about {cond:.1e}); results may "
+            f"be inaccurate. Weakest DOFs: {', '.join(dict.fromkeys(names))}.{cells} Probable cause: "
+            f"a member far softer than its neighbours, a nearly-collinear bracing, or a "
+            f"near-mechanism"], cond

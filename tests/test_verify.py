@@ -1,0 +1,167 @@
+"""Wrong answers are refused: residual, K-orthogonality, convergence and Sturm
+sequence checks of framebuckle.verify, against scipy's dense symmetric
+eigensolver (scipy.linalg.eigh, LAPACK) as the reference.
+
+Sturm sequence property / Sylvester's law of inertia: the number of negative
+pivots of an LDL^T factorization of K + sigma Kg equals the number of
+eigenvalues of the pencil below sigma (Bathe 1996, Finite Element Procedures,
+sec. 8.2.5, from memory; Golub & Van Loan 2013, Matrix Computations, 4th ed.,
+sec. 8.1, Sylvester's law of inertia).
+"""
+
+from __future__ import annotations
+
+import sys
+from dataclasses import replace
+
+import numpy as np
+import pytest
+import scipy.linalg as sla
+
+import framebuckle as fb
+from framebuckle import verify
+from framebuckle.assemble import Assembler
+from framebuckle.errors import SolverError
+from framebuckle.read import read_input
+from framebuckle.refine import subdivide
+
+from faultkit import IY, IZ, mesh_from, portal, portal_arrays
+
+S = sys.modules["framebuckle.solve"]   # the module (fb.solve is the API function)
+
+
+def _pencil(mesh, m=3):
+    im = read_input(mesh)
+    ref = subdivide(im.frame, m)
+    asm = Assembler.build(ref.frame)
+    K = asm.stiffness()
+    cons = S.find_constraints(ref.frame, K, "auto")
+    factor, Kff = S.factorize(K, cons, ref.frame, im.frame.n_nodes, "<test>")
+    G = asm.geometric(ref.fine_axial(im.cases[0].axial))
+    Gff = G[cons.free][:, cons.free]
+    return factor, Kff.tocsr(), Gff.tocsr()
+
+
+@pytest.fixture(scope="module")
+def portal_pencil():
+    # J raised so that the single-member twist modes lie far above the sway and flexural modes
+    factor, Kff, Gff = _pencil(portal(J=2e-5))
+    mu = sla.eigh(-Gff.toarray(), Kff.toarray(), eigvals_only=True)   # scipy reference
+    lam = np.sort(1.0 / mu[mu > 1e-12 * mu.max()])
+    return factor, Kff, Gff, lam
+
+
+@pytest.mark.parametrize("dense", [True, False], ids=["dense-LDL", "sparse-LDL"])
+def test_sturm_count_matches_dense_eigenvalues(portal_pencil, dense, monkeypatch):
+    factor, Kff, Gff, lam = portal_pencil
+    if not dense:
+        monkeypatch.setattr(verify, "DENSE_STURM", 0)
+        monkeypatch.setattr(verify, "DENSE_FALLBACK", 0)
+    distinct = np.flatnonzero(np.diff(lam) > 1e-3 * lam[1:])
+    gaps = (lam[distinct] + lam[distinct + 1]) / 2
+    sigmas = np.r_[lam[0] / 2, gaps[[0, 1, 2, 5, 20]]]
+    for s in sigmas:
+        n, how = verify.negative_count(Kff + s * Gff)
+        assert ("sparse" in how) != dense
+        assert n == int((lam < s).sum()), (s, n, how)
+
+
+def _dense_result(Kff, Gff, k):
+    mu, V = sla.eigh(-Gff.toarray(), Kff.toarray())
+    order = np.argsort(mu)[::-1][:k]
+    return S.EigenResult(1.0 / mu[order], V[:, order], np.zeros(k), False, "dense")
+
+
+def test_correct_result_passes_and_is_recorded(portal_pencil):
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 3)
+    rec = verify.check_case(Kff, Gff, er, 3, "<test>", "c")
+    assert rec["sturm_count"] == rec["sturm_expected"] == 3
+    assert rec["max_residual"] < 1e-8 and rec["max_k_orthogonality"] < 1e-8
+
+
+def test_missed_lowest_load_factor_is_refused(portal_pencil):
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 4)
+    missed = replace(er, load_factors=er.load_factors[1:], modes=er.modes[:, 1:])
+    with pytest.raises(SolverError, match="missed a load factor|Sturm"):
+        verify.check_case(Kff, Gff, missed, 3, "<test>", "c")
+
+
+def test_missing_requested_modes_are_refused(portal_pencil):
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 2)
+    with pytest.raises(SolverError, match="2 of the 4 requested"):
+        verify.check_case(Kff, Gff, er, 4, "<test>", "c")
+
+
+def test_wrong_load_factor_is_refused(portal_pencil):
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 3)
+    bad = replace(er, load_factors=er.load_factors * np.array([1.0, 1.001, 1.0]))
+    with pytest.raises(SolverError, match="mode 2 .* did not converge"):
+        verify.check_case(Kff, Gff, bad, 3, "<test>", "c")
+
+
+def test_repeated_mode_is_refused(portal_pencil):
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 3)
+    V = er.modes.copy()
+    V[:, 1] = V[:, 0] * 2.0
+    bad = replace(er, load_factors=np.r_[er.load_factors[0], er.load_factors[0], er.load_factors[2]],
+                  modes=V)
+    with pytest.raises(SolverError, match="not K-orthogonal"):
+        verify.check_case(Kff, Gff, bad, 3, "<test>", "c")
+
+
+def test_negative_or_unsorted_load_factors_are_refused(portal_pencil):
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 3)
+    bad = replace(er, load_factors=er.load_factors[::-1], modes=er.modes[:, ::-1])
+    with pytest.raises(SolverError, match="ascending"):
+        verify.check_case(Kff, Gff, bad, 3, "<test>", "c")
+
+
+def test_summary_records_sturm_count_per_case():
+    res = fb.solve(portal(), modes=3, subdivide=2)
+    s = res.summary()
+    c = s["cases"][0]["checks"]
+    assert c["sturm_count"] >= 3 and c["sturm_expected"] == 3
+    assert c["sturm_shift"] > s["cases"][0]["load_factors"][-1]
+
+
+def _soft_cantilever(f):
+    """A 4 m cantilever of four cells; cell 2 has its bending stiffness times f."""
+    pts = np.array([[0, 0, z] for z in range(5)], float)
+    cells = np.array([[i, i + 1] for i in range(4)])
+    r = np.zeros((5, 6))
+    r[0] = 1
+    Iy, Iz = np.full(4, IY), np.full(4, IZ)
+    Iy[2] *= f
+    Iz[2] *= f
+    return mesh_from(pts, cells, np.full(4, -1e3), r, Iy=Iy, Iz=Iz)
+
+
+def test_near_singular_stiffness_warns_naming_the_soft_cell():
+    assert fb.solve(_soft_cantilever(1.0), subdivide=4, mesh_check=False).warnings == []
+    res = fb.solve(_soft_cantilever(1e-6), subdivide=4, mesh_check=False)
+    w = [x for x in res.warnings if "near-singular" in x]
+    assert len(w) == 1 and "cell(s) 2" in w[0] and "Weakest DOFs: " in w[0]
+    assert res.summary()["warnings"] == res.warnings
+
+
+def test_too_ill_conditioned_model_is_refused_with_the_reason():
+    with pytest.raises(SolverError, match="near-singular .* cell\\(s\\) 2"):
+        fb.solve(_soft_cantilever(1e-8), subdivide=4, mesh_check=False)
+
+
+def test_iterative_solution_of_a_repeated_cluster_is_complete():
+    # the portal's four columns twist alike: a four-fold load factor that an iterative
+    # (Lanczos) solver can return fewer copies of; the Sturm check makes the run solve such a
+    # case again densely, so the reported values always match scipy's dense eigh
+    _, Kff, Gff = _pencil(portal(), m=2)
+    mu = sla.eigh(-Gff.toarray(), Kff.toarray(), eigvals_only=True)
+    ref = np.sort(1.0 / mu[mu > 1e-12 * mu.max()])[:6]
+    res = fb.solve(portal(), modes=6, subdivide=2, method="arpack")
+    np.testing.assert_allclose(res.cases[0].load_factors, ref, rtol=1e-8)
+    assert res.cases[0].checks["sturm_count"] >= 6
