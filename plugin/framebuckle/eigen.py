@@ -53,31 +53,42 @@ class BlockResult:
     block_solves: int        # calls of the factorization's solve
 
 
-def _k_orthonormalize(Z, K, V, rng, drop=1e-10):
+def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, KV=None):
     """Z <- K-orthonormal basis of (I - V V^T K) Z; dependent columns replaced by random ones.
 
     Two passes of block classical Gram-Schmidt against ``V`` followed by SVQB
     (Stathopoulos & Wu 2002, SIAM J. Sci. Comput. 23(6), "A block orthogonalization
-    procedure with constant synchronization requirements").
+    procedure with constant synchronization requirements").  Returns ``(Q, K Q)``.
+    ``KZ = K Z`` and ``KV = K V``, when known, spare the sparse products: the
+    projections update them alongside ``Z``; ``K Z`` is formed afresh once, after the
+    first projection (which may cancel most of ``Z``), so that rounding in the
+    updated products is not amplified.
     """
     n, b = Z.shape
+    if KZ is None:
+        KZ = K @ Z
     for _attempt in range(4):
-        for _ in range(2):
+        for npass in range(2):
             if V is not None and V.shape[1]:
+                C = V.T @ KZ
+                Z = Z - V @ C
+                KZ = KZ - KV @ C if KV is not None else None
+            if npass == 0 or KZ is None:
                 KZ = K @ Z
-                Z = Z - V @ (V.T @ KZ)
-            KZ = K @ Z
             S = Z.T @ KZ
             S = 0.5 * (S + S.T)
             d = np.sqrt(np.maximum(np.diag(S), 1e-300))
             w, U = np.linalg.eigh(S / d[:, None] / d[None, :])
             keep = w > drop * max(w.max(), 1e-300)
-            Z = (Z / d[None, :]) @ (U[:, keep] / np.sqrt(w[keep])[None, :])
+            T = U[:, keep] / np.sqrt(w[keep])[None, :] / d[:, None]
+            Z = Z @ T
+            KZ = KZ @ T
         if Z.shape[1] == b:
-            return Z
+            return Z, KZ
         # lost directions (an invariant subspace was reached): add fresh random ones
         R = rng.standard_normal((n, b - Z.shape[1]))
         Z = np.concatenate([Z, R], axis=1)
+        KZ = np.concatenate([KZ, K @ R], axis=1)
         drop = 1e-8
     raise RuntimeError("cannot extend the Krylov basis (the problem is smaller than the block)")
 
@@ -116,30 +127,35 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
         X0 = np.asarray(X0, float).reshape(n, -1)[:, :b]
         X[:, : X0.shape[1]] = X0
     V = np.empty((n, m))
-    P = np.empty((n, m))                 # P = -Kg V
+    KV = np.empty((n, m))                # K V, kept so that no product with K is needed
     H = np.zeros((m, m))
     j = 0
     Z = X
+    KZ = None                            # K Z when known (K A Q = -Kg Q)
     solves = block_solves = 0
     theta = res = None
     for cycle in range(1, max_cycles + 1):
         # ---- expand the basis block by block
         while j + b <= m:
-            Q = _k_orthonormalize(Z, K, V[:, :j], rng)
+            Q, KQ = _k_orthonormalize(Z, K, V[:, :j], rng, KZ=KZ, KV=KV[:, :j])
             bq = Q.shape[1]
             V[:, j:j + bq] = Q
-            P[:, j:j + bq] = mG @ Q
-            H[: j + bq, j:j + bq] = V[:, : j + bq].T @ P[:, j:j + bq]
+            KV[:, j:j + bq] = KQ
+            PQ = mG @ Q
+            H[: j + bq, j:j + bq] = V[:, : j + bq].T @ PQ
             H[j:j + bq, :j] = H[:j, j:j + bq].T
-            Z = solve(P[:, j:j + bq])     # A Q: the next Krylov block
+            Z = solve(PQ)                 # A Q: the next Krylov block
+            KZ = PQ                       # K (A Q) = -Kg Q exactly (up to the solve's error)
             solves += bq
             block_solves += 1
             j += bq
         # ---- the pending block made K-orthogonal to the basis: A V = V H + R E^T
-        R = Z
+        R, KR = Z, KZ
         for _ in range(2):
-            R = R - V[:, :j] @ (V[:, :j].T @ (K @ R))
-        SR = R.T @ (K @ R)
+            C = V[:, :j].T @ KR
+            R = R - V[:, :j] @ C
+            KR = K @ R
+        SR = R.T @ KR
         # ---- Rayleigh-Ritz
         Hs = 0.5 * (H[:j, :j] + H[:j, :j].T)
         w, Y = sla.eigh(Hs)
@@ -180,12 +196,86 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
                 return BlockResult(theta, Xr, res, nconv >= nev, cycle, solves, block_solves)
         # ---- thick restart: keep the best Ritz vectors (the converged ones are locked among them);
         # the pending block, K-orthogonal to the whole old basis, continues the Krylov sequence
-        Z = R
+        Z, KZ = R, KR
         kk = keep_n
         Yk = Y[:, :kk]
         V[:, :kk] = V[:, :j] @ Yk
-        P[:, :kk] = P[:, :j] @ Yk
+        KV[:, :kk] = KV[:, :j] @ Yk
         H[:] = 0.0
         H[np.arange(kk), np.arange(kk)] = w[:kk]
         j = kk
     raise AssertionError("unreachable")
+
+
+# ------------------------------------------------------------------ shift below the spectrum
+
+
+@dataclass
+class Shift:
+    r"""A factorization of :math:`A = K + \sigma K_g`, proved positive definite.
+
+    By Sylvester's law of inertia, :math:`A` positive definite means no load factor
+    lies in :math:`(0, \sigma]` (a Sturm sequence count of zero at :math:`\sigma`).
+    """
+    sigma: float
+    A: object            # CSR/CSC matrix K + sigma Kg
+    lu: object           # scipy SuperLU of A (symmetric mode, diagonal pivots)
+    factorizations: int  # how many were tried (shift lowered after a failed one)
+    estimate: float      # the rough lowest load factor the shift came from
+
+    def solve(self, B):
+        return self.lu.solve(np.asarray(B, dtype=float))
+
+
+def rough_lowest(solve, K, mG, X0=None, block: int = 4, steps: int = 4, seed: int = 1) -> float:
+    r"""An upper bound of the lowest positive load factor, from a small block Krylov space.
+
+    Rayleigh-Ritz of :math:`-K_g x = \mu K x` on
+    :math:`\mathrm{span}\{X, K^{-1}(-K_g)X, \dots\}` gives Ritz values below the
+    largest :math:`\mu` (Courant-Fischer), hence :math:`1/\theta_{max} \ge \lambda_1`.
+    Returns ``inf`` when the space holds no positive Ritz value.
+    """
+    n = K.shape[0]
+    rng = np.random.default_rng(seed)
+    X = rng.standard_normal((n, block))
+    if X0 is not None:
+        X0 = np.asarray(X0, float).reshape(n, -1)[:, :block]
+        X[:, : X0.shape[1]] = X0
+    blocks = []
+    for _ in range(steps):
+        X, _ = np.linalg.qr(X)
+        blocks.append(X)
+        X = solve(mG @ X)
+    Q, _ = np.linalg.qr(np.concatenate(blocks, axis=1))
+    Kq = Q.T @ (K @ Q)
+    Gq = Q.T @ (mG @ Q)
+    w, U = np.linalg.eigh(0.5 * (Kq + Kq.T))
+    keep = w > 1e-12 * w.max()
+    T = U[:, keep] / np.sqrt(w[keep])
+    th = np.linalg.eigvalsh(T.T @ (0.5 * (Gq + Gq.T)) @ T)
+    return 1.0 / th.max() if th.max() > 0 else np.inf
+
+
+def factor_shift(K, G, sigma: float, tries: int = 6, lower: float = 0.5):
+    r"""Factor :math:`K + \sigma K_g` with :math:`\sigma` lowered until it is positive definite.
+
+    Positive definiteness is read from the factorization: SuperLU in symmetric mode with
+    diagonal pivoting gives :math:`A = P^T L U P`, i.e. :math:`LDL^T` with
+    :math:`D = \mathrm{diag}(U)`, when the row and column orders agree; then all pivots
+    positive :math:`\Leftrightarrow` :math:`A` positive definite (Sylvester's law of inertia;
+    Golub & Van Loan 2013, Matrix Computations, 4th ed., sec. 8.1).
+    Returns a :class:`Shift` or ``None`` when no shift was accepted.
+    """
+    import scipy.sparse as sp
+    import scipy.sparse.linalg as spla
+    for i in range(tries):
+        A = sp.csc_matrix(K + sigma * G)
+        try:
+            lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                           options={"SymmetricMode": True})
+        except RuntimeError:                 # exactly singular: sigma is a load factor
+            lu = None
+        if lu is not None and np.array_equal(lu.perm_r, lu.perm_c) and (lu.U.diagonal() > 0).all():
+            return Shift(float(sigma), A, lu, i + 1, np.nan)
+        sigma *= lower
+    return None

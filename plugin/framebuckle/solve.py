@@ -274,6 +274,34 @@ class EigenResult:
     notes: list = field(default_factory=list)
 
 
+#: shift-invert the block eigensolver at sigma below the lowest load factor (see _shift)
+BLOCK_SHIFT = True
+#: the shift as a fraction of the rough (upper-bound) estimate of the lowest load factor
+SHIFT_FRACTION = 0.85
+
+
+def _shift(factor: Factor, Kff, Gff, v0=None):
+    r"""Factorization of :math:`K + \sigma K_g` with :math:`0 < \sigma < \lambda_1`, or None.
+
+    :math:`\sigma` is :data:`SHIFT_FRACTION` times an upper bound of :math:`\lambda_1` from a
+    small block Krylov space (started from ``v0``), lowered until the factorization proves
+    :math:`K + \sigma K_g` positive definite (:func:`framebuckle.eigen.factor_shift`).  The
+    eigenvalues :math:`\nu = 1/(\lambda - \sigma)` are then far better separated than
+    :math:`\mu = 1/\lambda` for a cluster of load factors.
+    """
+    from .eigen import factor_shift, rough_lowest
+    try:
+        est = rough_lowest(factor.solve, Kff, -Gff, X0=v0)
+    except np.linalg.LinAlgError:
+        return None
+    if not np.isfinite(est) or est <= 0:
+        return None
+    sh = factor_shift(Kff, Gff, SHIFT_FRACTION * est)
+    if sh is not None:
+        sh.estimate = float(est)
+    return sh
+
+
 def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 4,
                    method: str = "auto", v0: np.ndarray | None = None,
                    source: str = "<model>", case: str = "") -> EigenResult:
@@ -309,7 +337,16 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             KX = Kff @ X[:, pos]
             r = np.linalg.norm(KX - (Gff @ X[:, pos]) * (-1.0 / theta[pos]), axis=0)
             return bool((r <= RESIDUAL_TOL * np.maximum(np.linalg.norm(KX, axis=0), 1e-300)).all())
-        br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL, accept=accept)
+        shift = _shift(factor, Kff, Gff, v0) if BLOCK_SHIFT else None
+        if shift is None:
+            br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL, accept=accept)
+        else:                                # nu = 1/(lambda - sigma) of -Kg phi = nu (K + sigma Kg) phi
+            s = shift.sigma
+            br = block_krylov_schur(shift.solve, shift.A, -Gff, kk, X0=v0, tol=BLOCK_TOL,
+                                    accept=lambda nu, X: accept(nu / (1.0 + s * nu), X))
+            br.theta = br.theta / (1.0 + s * br.theta)   # mu = 1/lambda, same order for nu > 0
+            kn = np.einsum("ij,ij->j", br.vectors, Kff @ br.vectors)
+            br.vectors = br.vectors / np.sqrt(np.maximum(kn, 1e-300))   # A- to K-normalised
         if not br.converged:
             bad = int(np.argmax(br.residuals >= BLOCK_TOL))
             raise SolverError(f"case '{case}': the block eigensolver did not converge in {br.cycles} "
