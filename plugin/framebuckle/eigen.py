@@ -53,28 +53,28 @@ class BlockResult:
     block_solves: int        # calls of the factorization's solve
 
 
-def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, KV=None):
+def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, orthogonal=False):
     """Z <- K-orthonormal basis of (I - V V^T K) Z; dependent columns replaced by random ones.
 
-    Two passes of block classical Gram-Schmidt against ``V`` followed by SVQB
-    (Stathopoulos & Wu 2002, SIAM J. Sci. Comput. 23(6), "A block orthogonalization
-    procedure with constant synchronization requirements").  Returns ``(Q, K Q)``.
-    ``KZ = K Z`` and ``KV = K V``, when known, spare the sparse products: the
-    projections update them alongside ``Z``; ``K Z`` is formed afresh once, after the
-    first projection (which may cancel most of ``Z``), so that rounding in the
-    updated products is not amplified.
+    Block classical Gram-Schmidt against ``V`` followed by SVQB (Stathopoulos & Wu 2002,
+    SIAM J. Sci. Comput. 23(6), "A block orthogonalization procedure with constant
+    synchronization requirements"), twice unless the first pass kept most of every
+    column and left a well-conditioned block (the "twice is enough" criterion of Daniel,
+    Gragg, Kaufman & Stewart 1976, Math. Comp. 30(136), in block form).
+    Returns ``(Q, K Q)``.  ``KZ = K Z``, when known, spares the first sparse product.
+    ``orthogonal``: ``Z`` is already K-orthogonal to ``V`` (the first projection is skipped).
     """
     n, b = Z.shape
     if KZ is None:
         KZ = K @ Z
     for _attempt in range(4):
         for npass in range(2):
-            if V is not None and V.shape[1]:
-                C = V.T @ KZ
-                Z = Z - V @ C
-                KZ = KZ - KV @ C if KV is not None else None
-            if npass == 0 or KZ is None:
+            if V is not None and V.shape[1] and not (orthogonal and npass == 0):
+                norm0 = np.einsum("ij,ij->j", Z, KZ)
+                Z = Z - V @ (V.T @ KZ)
                 KZ = K @ Z
+            else:
+                norm0 = None
             S = Z.T @ KZ
             S = 0.5 * (S + S.T)
             d = np.sqrt(np.maximum(np.diag(S), 1e-300))
@@ -83,14 +83,22 @@ def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, KV=None):
             T = U[:, keep] / np.sqrt(w[keep])[None, :] / d[:, None]
             Z = Z @ T
             KZ = KZ @ T
+            if npass == 0 and keep.all() and w.min() > 0.25 * w.max() and (
+                    norm0 is None or (d ** 2 > 0.5 * norm0).all()):
+                break                      # little cancellation: one pass is accurate
         if Z.shape[1] == b:
             return Z, KZ
         # lost directions (an invariant subspace was reached): add fresh random ones
         R = rng.standard_normal((n, b - Z.shape[1]))
         Z = np.concatenate([Z, R], axis=1)
-        KZ = np.concatenate([KZ, K @ R], axis=1)
+        KZ = K @ Z
         drop = 1e-8
+        orthogonal = False
     raise RuntimeError("cannot extend the Krylov basis (the problem is smaller than the block)")
+
+
+#: blocks added per restart cycle (the rest of the basis keeps the best Ritz vectors)
+EXPAND = 2
 
 
 def block_krylov_schur(solve, K, mG, nev: int, *, block: int | None = None,
@@ -121,26 +129,26 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
     b = min(b, n)
     m = int(basis or (nev + 4 * b))
     m = min(max(m, nev + b), n)
-    keep_n = min(max(nev, m - 2 * b), m - b)
+    keep_n = min(max(nev, m - EXPAND * b), m - b)
     X = rng.standard_normal((n, b))
     if X0 is not None:
         X0 = np.asarray(X0, float).reshape(n, -1)[:, :b]
         X[:, : X0.shape[1]] = X0
     V = np.empty((n, m))
-    KV = np.empty((n, m))                # K V, kept so that no product with K is needed
     H = np.zeros((m, m))
     j = 0
     Z = X
     KZ = None                            # K Z when known (K A Q = -Kg Q)
+    fresh = False                        # Z is the residual block, already K-orthogonal to V
     solves = block_solves = 0
     theta = res = None
     for cycle in range(1, max_cycles + 1):
         # ---- expand the basis block by block
         while j + b <= m:
-            Q, KQ = _k_orthonormalize(Z, K, V[:, :j], rng, KZ=KZ, KV=KV[:, :j])
+            Q, _ = _k_orthonormalize(Z, K, V[:, :j], rng, KZ=KZ, orthogonal=fresh)
+            fresh = False
             bq = Q.shape[1]
             V[:, j:j + bq] = Q
-            KV[:, j:j + bq] = KQ
             PQ = mG @ Q
             H[: j + bq, j:j + bq] = V[:, : j + bq].T @ PQ
             H[j:j + bq, :j] = H[:j, j:j + bq].T
@@ -196,11 +204,11 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
                 return BlockResult(theta, Xr, res, nconv >= nev, cycle, solves, block_solves)
         # ---- thick restart: keep the best Ritz vectors (the converged ones are locked among them);
         # the pending block, K-orthogonal to the whole old basis, continues the Krylov sequence
-        Z, KZ = R, KR
+        Z, KZ = R, KR                    # K-orthogonal to the old basis, hence to the kept part
+        fresh = True
         kk = keep_n
         Yk = Y[:, :kk]
         V[:, :kk] = V[:, :j] @ Yk
-        KV[:, :kk] = KV[:, :j] @ Yk
         H[:] = 0.0
         H[np.arange(kk), np.arange(kk)] = w[:kk]
         j = kk
@@ -222,41 +230,53 @@ class Shift:
     lu: object           # scipy SuperLU of A (symmetric mode, diagonal pivots)
     factorizations: int  # how many were tried (shift lowered after a failed one)
     estimate: float      # the rough lowest load factor the shift came from
+    start: object = None # Ritz vectors of the rough estimate (a start block)
 
     def solve(self, B):
         return self.lu.solve(np.asarray(B, dtype=float))
 
 
-def rough_lowest(solve, K, mG, X0=None, block: int = 4, steps: int = 4, seed: int = 1) -> float:
+def rough_lowest(solve, K, mG, X0=None, block: int = 4, steps: int = 8, nvec: int = 4, seed: int = 1):
     r"""An upper bound of the lowest positive load factor, from a small block Krylov space.
 
     Rayleigh-Ritz of :math:`-K_g x = \mu K x` on
     :math:`\mathrm{span}\{X, K^{-1}(-K_g)X, \dots\}` gives Ritz values below the
     largest :math:`\mu` (Courant-Fischer), hence :math:`1/\theta_{max} \ge \lambda_1`.
-    Returns ``inf`` when the space holds no positive Ritz value.
+    Returns ``(bound, ritz)``: ``inf`` when the space holds no positive Ritz value, and
+    the ``nvec`` leading Ritz vectors (a start block for the eigensolver).
     """
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:                          # optional: only a speed matter
+        return _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed)
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed)
+
+
+def _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed):
     n = K.shape[0]
     rng = np.random.default_rng(seed)
     X = rng.standard_normal((n, block))
     if X0 is not None:
         X0 = np.asarray(X0, float).reshape(n, -1)[:, :block]
         X[:, : X0.shape[1]] = X0
-    blocks = []
-    for _ in range(steps):
-        X, _ = np.linalg.qr(X)
-        blocks.append(X)
-        X = solve(mG @ X)
-    Q, _ = np.linalg.qr(np.concatenate(blocks, axis=1))
+    Q = np.empty((n, block * steps))
+    for i in range(steps):
+        X = X / np.linalg.norm(X, axis=0)          # scaling only: the Gram matrix below
+        Q[:, i * block:(i + 1) * block] = X        # sorts out dependence
+        if i + 1 < steps:
+            X = solve(mG @ X)
     Kq = Q.T @ (K @ Q)
     Gq = Q.T @ (mG @ Q)
     w, U = np.linalg.eigh(0.5 * (Kq + Kq.T))
-    keep = w > 1e-12 * w.max()
+    keep = w > 1e-10 * w.max()
     T = U[:, keep] / np.sqrt(w[keep])
-    th = np.linalg.eigvalsh(T.T @ (0.5 * (Gq + Gq.T)) @ T)
-    return 1.0 / th.max() if th.max() > 0 else np.inf
+    th, Y = np.linalg.eigh(T.T @ (0.5 * (Gq + Gq.T)) @ T)
+    ritz = Q @ (T @ Y[:, ::-1][:, :nvec])
+    return (1.0 / th[-1] if th[-1] > 0 else np.inf), ritz
 
 
-def factor_shift(K, G, sigma: float, tries: int = 6, lower: float = 0.5):
+def factor_shift(K, G, sigma: float, tries: int = 8, lower: float = 0.7):
     r"""Factor :math:`K + \sigma K_g` with :math:`\sigma` lowered until it is positive definite.
 
     Positive definiteness is read from the factorization: SuperLU in symmetric mode with

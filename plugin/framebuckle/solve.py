@@ -277,10 +277,10 @@ class EigenResult:
 #: shift-invert the block eigensolver at sigma below the lowest load factor (see _shift)
 BLOCK_SHIFT = True
 #: the shift as a fraction of the rough (upper-bound) estimate of the lowest load factor
-SHIFT_FRACTION = 0.85
+SHIFT_FRACTION = 0.9
 
 
-def _shift(factor: Factor, Kff, Gff, v0=None):
+def _shift(factor: Factor, Kff, Gff, v0=None, block: int = 4):
     r"""Factorization of :math:`K + \sigma K_g` with :math:`0 < \sigma < \lambda_1`, or None.
 
     :math:`\sigma` is :data:`SHIFT_FRACTION` times an upper bound of :math:`\lambda_1` from a
@@ -291,7 +291,10 @@ def _shift(factor: Factor, Kff, Gff, v0=None):
     """
     from .eigen import factor_shift, rough_lowest
     try:
-        est = rough_lowest(factor.solve, Kff, -Gff, X0=v0)
+        if v0 is None:                       # a deep Krylov space of a thin block
+            est, start = rough_lowest(factor.solve, Kff, -Gff, block=4, steps=8, nvec=block)
+        else:                                # the previous case's modes and one step on
+            est, start = rough_lowest(factor.solve, Kff, -Gff, X0=v0, block=block, steps=2, nvec=block)
     except np.linalg.LinAlgError:
         return None
     if not np.isfinite(est) or est <= 0:
@@ -299,6 +302,7 @@ def _shift(factor: Factor, Kff, Gff, v0=None):
     sh = factor_shift(Kff, Gff, SHIFT_FRACTION * est)
     if sh is not None:
         sh.estimate = float(est)
+        sh.start = start                     # Ritz vectors: the eigensolver's first block
     return sh
 
 
@@ -337,12 +341,12 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             KX = Kff @ X[:, pos]
             r = np.linalg.norm(KX - (Gff @ X[:, pos]) * (-1.0 / theta[pos]), axis=0)
             return bool((r <= RESIDUAL_TOL * np.maximum(np.linalg.norm(KX, axis=0), 1e-300)).all())
-        shift = _shift(factor, Kff, Gff, v0) if BLOCK_SHIFT else None
+        shift = _shift(factor, Kff, Gff, v0, kk) if BLOCK_SHIFT else None
         if shift is None:
             br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL, accept=accept)
         else:                                # nu = 1/(lambda - sigma) of -Kg phi = nu (K + sigma Kg) phi
             s = shift.sigma
-            br = block_krylov_schur(shift.solve, shift.A, -Gff, kk, X0=v0, tol=BLOCK_TOL,
+            br = block_krylov_schur(shift.solve, shift.A, -Gff, kk, X0=shift.start, tol=BLOCK_TOL,
                                     accept=lambda nu, X: accept(nu / (1.0 + s * nu), X))
             br.theta = br.theta / (1.0 + s * br.theta)   # mu = 1/lambda, same order for nu > 0
             kn = np.einsum("ij,ij->j", br.vectors, Kff @ br.vectors)
