@@ -70,5 +70,6 @@ def test_shifted_block_warm_start_and_repeats():
     er2 = buckling_modes(f, K, Gm, 6, method="block", v0=er1.modes)
     for er in (er1, er2):
         np.testing.assert_allclose(er.load_factors, ref[:6], rtol=1e-8)
+        assert (np.diff(er.load_factors) >= 0).all()      # ascending even across exact repeats
         assert er.cluster_continues
         np.testing.assert_allclose(er.modes.T @ (K @ er.modes), np.eye(6), atol=1e-8)

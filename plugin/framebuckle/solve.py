@@ -348,7 +348,10 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             s = shift.sigma
             br = block_krylov_schur(shift.solve, shift.A, -Gff, kk, X0=shift.start, tol=BLOCK_TOL,
                                     accept=lambda nu, X: accept(nu / (1.0 + s * nu), X))
-            br.theta = br.theta / (1.0 + s * br.theta)   # mu = 1/lambda, same order for nu > 0
+            mu_s = br.theta / (1.0 + s * br.theta)       # mu = 1/lambda, same order for nu > 0,
+            order = np.argsort(-mu_s, kind="stable")     # but rounding can swap exact repeats
+            br.theta, br.vectors = mu_s[order], br.vectors[:, order]
+            br.residuals = br.residuals[order] if len(br.residuals) == len(order) else br.residuals
             kn = np.einsum("ij,ij->j", br.vectors, Kff @ br.vectors)
             br.vectors = br.vectors / np.sqrt(np.maximum(kn, 1e-300))   # A- to K-normalised
         if not br.converged:
