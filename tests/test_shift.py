@@ -73,3 +73,14 @@ def test_shifted_block_warm_start_and_repeats():
         assert (np.diff(er.load_factors) >= 0).all()      # ascending even across exact repeats
         assert er.cluster_continues
         np.testing.assert_allclose(er.modes.T @ (K @ er.modes), np.eye(6), atol=1e-8)
+
+
+def test_verify_records_the_shift_as_a_sturm_count(grid):
+    from framebuckle import verify
+    f, K, Gm = grid
+    er = buckling_modes(f, K, Gm, 6, method="block")
+    rec = verify.check_case(K, Gm, er, 6, "test", "c")
+    lam = dense_load_factors(K, Gm, K.shape[0])
+    assert 0 < rec["shift_sigma"] < lam[0] and rec["shift_count"] == 0
+    # the independent count above the top value agrees with LAPACK (repeats included)
+    assert rec["sturm_count"] == int((lam < rec["sturm_shift"]).sum()) >= 6

@@ -272,6 +272,7 @@ class EigenResult:
     cluster_continues: bool = False
     method: str = "arpack"
     notes: list = field(default_factory=list)
+    shift: float | None = None       # sigma with K + sigma Kg proved positive definite (no load factor <= sigma)
 
 
 #: shift-invert the block eigensolver at sigma below the lowest load factor (see _shift)
@@ -320,6 +321,7 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
     n = Kff.shape[0]
     k = int(k)
     kk = k + 1                               # one extra to see whether a cluster continues
+    shift = None
     if method == "auto":
         method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "block"
     if method == "dense" or kk + 2 >= n:
@@ -378,4 +380,5 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
         raise SolverError(f"case '{case}': mode {i + 1} failed its residual check "
                           f"(||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g})",
                           source=source)
-    return EigenResult(lam, vec, res, cluster, method)
+    return EigenResult(lam, vec, res, cluster, method,
+                       shift=shift.sigma if method == "block" and shift is not None else None)

@@ -157,6 +157,14 @@ def check_case(Kff, Gff, er, k: int, source: str, case: str) -> dict:
                           f"not reliable", source=source)
     # 4. Sturm sequence count
     out = {"max_residual": float(res.max()), "max_k_orthogonality": ortho}
+    sigma0 = getattr(er, "shift", None)
+    if sigma0 is not None:
+        # the eigensolver's shift: K + sigma0 Kg was factored positive definite, a Sturm
+        # count of zero at sigma0 (no load factor in (0, sigma0]) that the results must respect
+        if lam[0] <= sigma0:
+            raise SolverError(f"{where}: load factor {lam[0]:.6g} lies below {sigma0:.6g}, where "
+                              f"the factorization of K + sigma Kg proves there is none", source=source)
+        out.update({"shift_sigma": float(sigma0), "shift_count": 0})
     out.update(sturm_check(Kff, Gff, lam, k, source, case))
     return out
 
