@@ -303,9 +303,7 @@ def _shift(factor: Factor, Kff, Gff, v0=None, block: int = 4):
     sh = factor_shift(Kff, Gff, SHIFT_FRACTION * est)
     if sh is not None:
         sh.estimate = float(est)
-        # the first block: Ritz vectors of the deep space; after a previous case, a random block
-        # (measured: starting from the previous modes or their Ritz vectors costs restarts)
-        sh.start = start if v0 is None else None
+        sh.start = start                     # Ritz vectors: the eigensolver's first block
     return sh
 
 
