@@ -27,6 +27,11 @@ large symmetric eigenvalue problems", Numer. Algorithms 47):
   (in exact arithmetic a single-vector Krylov method finds one copy only).
   Directions that become dependent are replaced by fresh random ones.
 
+Shift-and-invert: the same iteration with :math:`A = K + \sigma K_g` in place of
+:math:`K` (any symmetric positive definite matrix will do) finds the largest
+:math:`\nu = 1/(\lambda - \sigma)`; :func:`factor_shift` factors it and proves it
+positive definite, :func:`rough_lowest` supplies :math:`\sigma`.
+
 Convergence: the Krylov residual :math:`\|A x - \theta x\|_K / |\theta|` of a
 :math:`K`-normalised Ritz pair, read off the Krylov relation
 :math:`A V = V H + R E^T` at no extra solve, must fall below ``tol``; the

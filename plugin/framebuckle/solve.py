@@ -314,7 +314,9 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
 
     ``method``: ``"dense"`` (scipy.linalg.eigh), ``"arpack"`` (one vector at a time),
     ``"block"`` (block Krylov-Schur, :mod:`framebuckle.eigen`: one solve per block of
-    ``k + 1`` vectors, every mode of a repeated load factor found) or ``"auto"``
+    ``k + 1`` vectors, every mode of a repeated load factor found; run on
+    :math:`\nu = 1/(\lambda - \sigma)` with :math:`K + \sigma K_g` factored and proved positive
+    definite, see :func:`_shift`, when :data:`BLOCK_SHIFT`) or ``"auto"``
     (dense for small models, else block).  ``v0``: start vector(s), e.g. the previous
     load case's modes (a 1D vector or an (n, j) block).
     """
