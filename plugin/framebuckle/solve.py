@@ -310,7 +310,7 @@ def _shift(factor: Factor, Kff, Gff, v0=None, block: int = 4):
 def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 4,
                    method: str = "auto", v0: np.ndarray | None = None,
                    source: str = "<model>", case: str = "") -> EigenResult:
-    """Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs.
+    r"""Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs.
 
     ``method``: ``"dense"`` (scipy.linalg.eigh), ``"arpack"`` (one vector at a time),
     ``"block"`` (block Krylov-Schur, :mod:`framebuckle.eigen`: one solve per block of
