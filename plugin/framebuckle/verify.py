@@ -46,9 +46,8 @@ import scipy.sparse.linalg as spla
 
 from .errors import SolverError
 from .model import DOF_NAMES
+from .solve import RESIDUAL_TOL  # one tolerance for the solver and its independent check
 
-#: relative eigen-residual above which a mode is refused
-RESIDUAL_TOL = 1e-6
 #: largest normalised K-inner product of two modes with distinct load factors
 ORTHO_TOL = 1e-5
 #: relative gap below which two load factors count as one repeated value
