@@ -1,4 +1,7 @@
-"""Mesh adequacy: twice the sub-division and Richardson extrapolation (framebuckle.adequacy)."""
+"""Mesh adequacy: twice the sub-division and Richardson extrapolation (framebuckle.adequacy).
+
+Reference: Timoshenko & Gere 1961 (Euler load); Strang & Fix 1973, An Analysis of the Finite Element Method (convergence order).
+"""
 
 import math
 

@@ -1,5 +1,7 @@
 """Single columns, each given as ONE line cell, against the classical closed forms.
 
+Reference: Timoshenko & Gere 1961, Theory of Elastic Stability, ch. 2 and 5 (named beside each check).
+
 References
 ----------
 * Timoshenko & Gere 1961, Theory of Elastic Stability, 2nd ed., McGraw-Hill:

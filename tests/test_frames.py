@@ -1,5 +1,7 @@
 r"""Frames against closed-form characteristic equations solved with scipy.optimize.brentq.
 
+Reference: Timoshenko & Gere 1961, sec. 2.8; Chen & Lui 1987, Structural Stability; Yura 1971 (named beside each check).
+
 Portal frame, sway (antisymmetric) mode
 ---------------------------------------
 Columns of height ``h`` and ``EI_c`` carry equal compression ``P`` (``k^2 = P / EI_c``);

@@ -1,4 +1,7 @@
-"""First-order static solver (framebuckle.static) against closed forms."""
+"""First-order static solver (framebuckle.static) against closed forms.
+
+Reference: Gere & Goodno 2009, Mechanics of Materials; Roark's Formulas for Stress and Strain; Hibbeler, Structural Analysis (named beside each check).
+"""
 
 import math
 

@@ -191,8 +191,8 @@ def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
         if r.shape != (nn, 6):
             raise InputError(f"point field 'restraint' must have shape ({nn}, 6), got {r.shape}",
                              source=source)
-        if not np.isfinite(r.astype(float)).all() or not np.isin(r, (0, 1)).all():
-            p = np.flatnonzero(~np.isin(r, (0, 1)).all(axis=1))[0]
+        p = first_bad_flag_row(r)
+        if p is not None:
             raise InputError(f"point field 'restraint' must hold only 0 or 1; point {p} has {r[p].tolist()}",
                              source=source)
         restraint = r.astype(bool)
@@ -228,13 +228,11 @@ def _release(release, ne, bar, source, parent):
     r = np.asarray(release)
     if r.shape != (ne, 12):
         raise InputError(f"end releases must have shape ({ne}, 12), got {r.shape}", source=source)
-    rf = r.astype(float)
-    ok = np.isfinite(rf).all(axis=1) & np.isin(rf, (0.0, 1.0)).all(axis=1)
-    if not ok.all():
-        i = int(np.flatnonzero(~ok)[0])
+    i = first_bad_flag_row(r)
+    if i is not None:
         raise InputError(f"fields 'release_start'/'release_end' must hold only 0 or 1; cell {parent[i]} has "
                          f"{r[i].tolist()}", source=source)
-    r = rf.astype(bool) & ~bar[:, None]
+    r = r.astype(float).astype(bool) & ~bar[:, None]
     return _frozen(r, bool) if r.any() else None
 
 
@@ -250,6 +248,13 @@ def make_case(name: str, axial, frame: Frame, source: str | None = None) -> Load
                          f"({frame.n_elements}), got shape {a.shape}", source=src)
     _check_finite(a, f"axial force of case '{name}'", src, labels=frame.parent)
     return LoadCase(name=name, axial=_frozen(a))
+
+
+def first_bad_flag_row(r) -> int | None:
+    """Index of the first row of a 0/1 flag array holding anything else (NaN included), or None."""
+    rf = np.asarray(r).astype(float)
+    ok = np.isfinite(rf).all(axis=1) & np.isin(rf, (0.0, 1.0)).all(axis=1)
+    return None if ok.all() else int(np.flatnonzero(~ok)[0])
 
 
 def _per_element(val, name, ne, source, parent=None):

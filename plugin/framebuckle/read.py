@@ -32,7 +32,7 @@ import meshio
 import numpy as np
 
 from .errors import InputError
-from .model import Frame, LoadCase, make_case, make_frame
+from .model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
 from .releases import read_releases
 from .study import SUPPORT_KINDS, Study
 
@@ -366,13 +366,11 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             r = r.reshape(npts, 6)
         if r.shape != (npts, 6):
             raise InputError(f"point field '{rname}' must have shape ({npts}, 6), got {r.shape}", source=src)
-        rf = r.astype(float)
-        okv = np.isfinite(rf).all(axis=1) & np.isin(rf, (0.0, 1.0)).all(axis=1)
-        if not okv.all():
-            p = int(np.flatnonzero(~okv)[0])
+        p = first_bad_flag_row(r)
+        if p is not None:
             raise InputError(f"point field '{rname}' must hold only 0 or 1; point {p} has {r[p].tolist()}",
                              source=src)
-        restraint = rf.astype(bool)
+        restraint = r.astype(float).astype(bool)
     sets = point_sets(mesh)
     restraint = _apply_supports(restraint, study, sets, np.asarray(mesh.points, float), src)
 
