@@ -3,7 +3,8 @@
 The sparsity pattern is computed once per model: :class:`Assembler` keeps,
 for each of the ``e * 144`` element entries, its position in the CSR data
 array, so that each load case's geometric stiffness is a single
-``np.bincount`` (no Python loop over elements, no re-sorting).
+``np.bincount`` (no Python loop over elements, no re-sorting).  Entries that
+come out exactly zero are then dropped from the returned matrix.
 """
 
 from __future__ import annotations
@@ -70,7 +71,12 @@ class Assembler:
 
     def _csr(self, values: np.ndarray) -> sp.csr_matrix:
         data = np.bincount(self.slot, weights=values.reshape(-1), minlength=len(self.indices))
-        return sp.csr_matrix((data, self.indices, self.indptr), shape=(self.n, self.n))
+        # copies of the pattern arrays: eliminate_zeros compacts them in place
+        m = sp.csr_matrix((data, self.indices.copy(), self.indptr.copy()), shape=(self.n, self.n))
+        # the node-pair pattern stores the exact zeros of the 6 x 6 blocks (most of them for
+        # members along the global axes): dropped, products and the factorization are faster
+        m.eliminate_zeros()
+        return m
 
     def matrix(self, values: np.ndarray) -> sp.csr_matrix:
         """Assemble any global element matrices ``values`` (e, 12, 12) on this pattern."""

@@ -193,7 +193,10 @@ class WarpingAssembler:
     def _csr(self, v12, v14):
         vals = np.concatenate([np.asarray(v12).reshape(-1), np.asarray(v14).reshape(-1)])
         data = np.bincount(self.slot, weights=vals, minlength=len(self.indices))
-        return sp.csr_matrix((data, self.indices, self.indptr), shape=(self.n, self.n))
+        # copies of the pattern arrays: eliminate_zeros compacts them in place
+        m = sp.csr_matrix((data, self.indices.copy(), self.indptr.copy()), shape=(self.n, self.n))
+        m.eliminate_zeros()                   # exact zeros of the pattern (see assemble._csr)
+        return m
 
     def stiffness(self):
         return self._csr(self.Ke_s, self.K14)

@@ -159,7 +159,9 @@ def add_field_data(grid, result):
 
 def write_grid(grid, target: Path, force=True, protect=()):
     with atomic_path(target, force, protect) as tmp:
-        grid.save(str(tmp), binary=True)
+        # raw binary, not zlib: 3-4 x faster to write for about 20 % more bytes (mode
+        # shapes compress poorly); any VTK XML reader reads it, no decompressor needed
+        grid.save(str(tmp), binary=True, compression=None)
 
 
 def write_result(result, out_dir, stem: str | None = None, force: bool = True) -> dict:
