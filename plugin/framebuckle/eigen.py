@@ -45,6 +45,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.linalg as sla
+from scipy.linalg.blas import dgemm as _dgemm
 
 
 @dataclass
@@ -58,7 +59,17 @@ class BlockResult:
     block_solves: int        # calls of the factorization's solve
 
 
-def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, orthogonal=False):
+def _sub_vc(Z, V, C):
+    """``Z -= V @ C`` in place (one BLAS call, no temporary); Z and V Fortran-ordered."""
+    if V.shape[1] == 0:
+        return Z
+    if Z.flags.f_contiguous and V.flags.f_contiguous:
+        return _dgemm(-1.0, V, C, 1.0, Z, overwrite_c=True)
+    Z -= V @ C
+    return Z
+
+
+def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, orthogonal=False, C0=None):
     """Z <- K-orthonormal basis of (I - V V^T K) Z; dependent columns replaced by random ones.
 
     Block classical Gram-Schmidt against ``V`` followed by SVQB (Stathopoulos & Wu 2002,
@@ -66,17 +77,20 @@ def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, orthogonal=False):
     synchronization requirements"), twice unless the first pass kept most of every
     column and left a well-conditioned block (the "twice is enough" criterion of Daniel,
     Gragg, Kaufman & Stewart 1976, Math. Comp. 30(136), in block form).
-    Returns ``(Q, K Q)``.  ``KZ = K Z``, when known, spares the first sparse product.
+    Returns ``(Q, K Q)``.  ``KZ = K Z``, when known, spares the first sparse product;
+    ``C0 = V^T K Z``, when known, the first pass's coefficients.
     ``orthogonal``: ``Z`` is already K-orthogonal to ``V`` (the first projection is skipped).
     """
     n, b = Z.shape
+    Z = np.asfortranarray(Z)             # overwritten: the caller does not reuse it
     if KZ is None:
         KZ = K @ Z
     for _attempt in range(4):
         for npass in range(2):
             if V is not None and V.shape[1] and not (orthogonal and npass == 0):
                 norm0 = np.einsum("ij,ij->j", Z, KZ)
-                Z = Z - V @ (V.T @ KZ)
+                C = C0 if (npass == 0 and C0 is not None) else V.T @ KZ
+                Z = _sub_vc(Z, V, C)
                 KZ = K @ Z
             else:
                 norm0 = None
@@ -86,7 +100,7 @@ def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, orthogonal=False):
             w, U = np.linalg.eigh(S / d[:, None] / d[None, :])
             keep = w > drop * max(w.max(), 1e-300)
             T = U[:, keep] / np.sqrt(w[keep])[None, :] / d[:, None]
-            Z = Z @ T
+            Z = (T.T @ Z.T).T                # Z T, Fortran-ordered like Z
             KZ = KZ @ T
             if npass == 0 and keep.all() and w.min() > 0.25 * w.max() and (
                     norm0 is None or (d ** 2 > 0.5 * norm0).all()):
@@ -95,10 +109,11 @@ def _k_orthonormalize(Z, K, V, rng, drop=1e-10, KZ=None, orthogonal=False):
             return Z, KZ
         # lost directions (an invariant subspace was reached): add fresh random ones
         R = rng.standard_normal((n, b - Z.shape[1]))
-        Z = np.concatenate([Z, R], axis=1)
+        Z = np.asfortranarray(np.concatenate([Z, R], axis=1))
         KZ = K @ Z
         drop = 1e-8
         orthogonal = False
+        C0 = None
     raise RuntimeError("cannot extend the Krylov basis (the problem is smaller than the block)")
 
 
@@ -139,18 +154,19 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
     if X0 is not None:
         X0 = np.asarray(X0, float).reshape(n, -1)[:, :b]
         X[:, : X0.shape[1]] = X0
-    V = np.empty((n, m))
+    V = np.empty((n, m), order="F")
     H = np.zeros((m, m))
     j = 0
     Z = X
     KZ = None                            # K Z when known (K A Q = -Kg Q)
     fresh = False                        # Z is the residual block, already K-orthogonal to V
+    C0 = None                            # V^T K Z when known
     solves = block_solves = 0
     theta = res = None
     for cycle in range(1, max_cycles + 1):
         # ---- expand the basis block by block
         while j + b <= m:
-            Q, _ = _k_orthonormalize(Z, K, V[:, :j], rng, KZ=KZ, orthogonal=fresh)
+            Q, _ = _k_orthonormalize(Z, K, V[:, :j], rng, KZ=KZ, orthogonal=fresh, C0=C0)
             fresh = False
             bq = Q.shape[1]
             V[:, j:j + bq] = Q
@@ -159,14 +175,15 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
             H[j:j + bq, :j] = H[:j, j:j + bq].T
             Z = solve(PQ)                 # A Q: the next Krylov block
             KZ = PQ                       # K (A Q) = -Kg Q exactly (up to the solve's error)
+            C0 = H[: j + bq, j:j + bq].copy()   # = V^T K Z: the next projection's coefficients
             solves += bq
             block_solves += 1
             j += bq
         # ---- the pending block made K-orthogonal to the basis: A V = V H + R E^T
-        R, KR = Z, KZ
-        for _ in range(2):
-            C = V[:, :j].T @ KR
-            R = R - V[:, :j] @ C
+        R, KR = np.asfortranarray(Z), KZ
+        for ipass in range(2):
+            C = C0 if ipass == 0 else V[:, :j].T @ KR
+            R = _sub_vc(R, V[:, :j], C)
             KR = K @ R
         SR = R.T @ KR
         # ---- Rayleigh-Ritz
@@ -211,9 +228,10 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
         # the pending block, K-orthogonal to the whole old basis, continues the Krylov sequence
         Z, KZ = R, KR                    # K-orthogonal to the old basis, hence to the kept part
         fresh = True
+        C0 = None
         kk = keep_n
         Yk = Y[:, :kk]
-        V[:, :kk] = V[:, :j] @ Yk
+        V[:, :kk] = (Yk.T @ V[:, :j].T).T    # V Yk, Fortran-ordered like V
         H[:] = 0.0
         H[np.arange(kk), np.arange(kk)] = w[:kk]
         j = kk
