@@ -165,3 +165,58 @@ def test_iterative_solution_of_a_repeated_cluster_is_complete():
     res = fb.solve(portal(), modes=6, subdivide=2, method="arpack")
     np.testing.assert_allclose(res.cases[0].load_factors, ref, rtol=1e-8)
     assert res.cases[0].checks["sturm_count"] >= 6
+
+
+# ------------------------------------------------------------------ Sturm counts in a second process
+
+
+def _api_module():
+    return sys.modules["framebuckle.api"]
+
+
+def test_parallel_sturm_counts_equal_the_serial_ones(monkeypatch):
+    """Large models count in a worker process; the record must be the one the serial
+    path writes (same count, shift and method), for every case."""
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 10**9)
+    serial = fb.solve(portal(), modes=3, subdivide=2).summary()["cases"]
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
+    started = []
+    real_init = verify.SturmWorker.__init__
+
+    def spy(self):
+        started.append(True)
+        real_init(self)
+    monkeypatch.setattr(verify.SturmWorker, "__init__", spy)
+    res = fb.solve(portal(), modes=3, subdivide=2)
+    assert started, "the worker process was not used"
+    assert "sturm_wait" in res.timings
+    parallel = res.summary()["cases"]
+    assert [c["checks"] for c in parallel] == [c["checks"] for c in serial]
+    c = parallel[0]["checks"]
+    assert c["sturm_count"] >= c["sturm_expected"] == 3 and c["sturm_method"]
+
+
+def test_parallel_sturm_count_still_refuses_a_missed_load_factor(monkeypatch):
+    """A result that skips the lowest load factor is refused when the count runs in the
+    worker too (the count itself is computed there from the matrices sent)."""
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
+    api = _api_module()
+    real = api.buckling_modes
+
+    def skip_lowest(factor, Kff, Gff, k=4, **kw):
+        er = real(factor, Kff, Gff, k + 1, **kw)
+        return replace(er, load_factors=er.load_factors[1:], modes=er.modes[:, 1:], residuals=er.residuals[1:])
+    monkeypatch.setattr(api, "buckling_modes", skip_lowest)
+    monkeypatch.setattr(verify, "DENSE_RETRY", 0)            # no dense second attempt
+    with pytest.raises(SolverError, match="missed a load factor|Sturm"):
+        fb.solve(portal(), modes=3, subdivide=2)
+
+
+def test_no_worker_for_small_models_or_inside_daemonic_workers(monkeypatch):
+    import multiprocessing as mp
+    assert verify.SturmWorker.maybe(verify.PARALLEL_STURM_MIN - 1) is None
+
+    class Daemon:
+        daemon = True
+    monkeypatch.setattr(mp, "current_process", lambda: Daemon())
+    assert verify.SturmWorker.maybe(10 * verify.PARALLEL_STURM_MIN) is None   # e.g. a Dask worker

@@ -130,59 +130,76 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         pre = _preload.prepare(pname, pfac, Kff, geo(pcase)[free][:, free], im.source)
     cases = []
     v0 = None
-    for icase, case in enumerate(im.cases):
-        t = time.perf_counter()
-        stage(f"case {icase + 1}/{len(im.cases)} '{case.name}': eigensolution")
-        Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
-        axial = ref.fine_axial(case.axial)
-        scale = np.abs(axial).max() if axial.size else 0.0
-        if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
-            cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
-            continue
-        Gff = geo(case)[free][:, free]
-        try:
-            er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+    # the Sturm counts of large models run in a second process beside the next case
+    worker = verify.SturmWorker.maybe(len(free)) if options.get("parallel_sturm", True) else None
+    try:
+        for icase, case in enumerate(im.cases):
+            t = time.perf_counter()
+            stage(f"case {icase + 1}/{len(im.cases)} '{case.name}': eigensolution")
+            Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
+            axial = ref.fine_axial(case.axial)
+            scale = np.abs(axial).max() if axial.size else 0.0
+            if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
+                cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
+                continue
+            Gff = geo(case)[free][:, free]
             try:
-                checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
-            except verify.MissedLoadFactor:
-                if er.method == "dense" or len(free) > verify.DENSE_RETRY:
-                    raise
-                # iterative solvers can skip copies of a repeated load factor: solve densely
-                er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
-                checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
-                checks["retried_dense"] = True
-        except SolverError as exc:
-            raise _explained(exc, warnings) from None
-        if len(er.load_factors) == 0:
-            cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
-                                    method=er.method))
-            continue
-        v0 = er.modes                       # warm start of the next case: neighbouring combinations
-        full = np.zeros((asm.n, er.modes.shape[1]))
-        full[free] = er.modes
-        full = full[:fine.n_dofs]
-        notes = list(case.extra.get("notes", []))
-        if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
-            notes.append("end moments recovered from the rotations are not used in the geometric "
-                         "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "
-                         "include them (see the limits in the README)")
-        if pre is not None:
-            notes.append(pre.note() if case.name != pre.name else
-                         "this case is the constant preload; its load factor is for the case alone")
-        if len(er.load_factors) < k:
-            notes.append(f"only {len(er.load_factors)} positive load factor(s) exist for this case")
-        if er.cluster_continues:
-            notes.append(f"load factor {er.load_factors[-1]:.6g} repeats beyond mode {k}: the cluster "
-                         f"continues past the requested modes (ask for more with --modes)")
-        if checks.get("retried_dense"):
-            notes.append("the iterative eigensolver returned too few copies of a repeated load factor "
-                         "(found by the Sturm count); this case was solved again with the dense solver")
-        notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
-        cases.append(CaseResult(case.name, "ok", er.load_factors, normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max())),
-                                er.residuals, er.cluster_continues, er.method, notes, checks))
-        timings["cases"].append(time.perf_counter() - t)
-        if progress:
-            progress(case.name)
+                er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+                try:
+                    checks = verify.check_case(Kc, Gff, er, k, im.source, case.name,
+                                               sturm=worker is None)
+                except verify.MissedLoadFactor:
+                    if er.method == "dense" or len(free) > verify.DENSE_RETRY:
+                        raise
+                    # iterative solvers can skip copies of a repeated load factor: solve densely
+                    er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
+                    checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
+                    checks["retried_dense"] = True
+            except SolverError as exc:
+                raise _explained(exc, warnings) from None
+            if worker is not None and len(er.load_factors):
+                worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
+            if len(er.load_factors) == 0:
+                cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
+                                        method=er.method))
+                continue
+            v0 = er.modes                       # warm start of the next case: neighbouring combinations
+            full = np.zeros((asm.n, er.modes.shape[1]))
+            full[free] = er.modes
+            full = full[:fine.n_dofs]
+            notes = list(case.extra.get("notes", []))
+            if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
+                notes.append("end moments recovered from the rotations are not used in the geometric "
+                             "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "
+                             "include them (see the limits in the README)")
+            if pre is not None:
+                notes.append(pre.note() if case.name != pre.name else
+                             "this case is the constant preload; its load factor is for the case alone")
+            if len(er.load_factors) < k:
+                notes.append(f"only {len(er.load_factors)} positive load factor(s) exist for this case")
+            if er.cluster_continues:
+                notes.append(f"load factor {er.load_factors[-1]:.6g} repeats beyond mode {k}: the cluster "
+                             f"continues past the requested modes (ask for more with --modes)")
+            if checks.get("retried_dense"):
+                notes.append("the iterative eigensolver returned too few copies of a repeated load factor "
+                             "(found by the Sturm count); this case was solved again with the dense solver")
+            notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
+            cases.append(CaseResult(case.name, "ok", er.load_factors, normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max())),
+                                    er.residuals, er.cluster_continues, er.method, notes, checks))
+            timings["cases"].append(time.perf_counter() - t)
+            if progress:
+                progress(case.name)
+        if worker is not None:           # the last counts may still be running
+            t = time.perf_counter()
+            stage("waiting for the Sturm counts")
+            try:
+                worker.collect()
+            except SolverError as exc:
+                raise _explained(exc, warnings) from None
+            timings["sturm_wait"] = time.perf_counter() - t
+    finally:
+        if worker is not None:
+            worker.close()
     check = options.get("mesh_check", "auto")
     if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
         fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))

@@ -115,8 +115,11 @@ def _dense_negative(A) -> int:
 # ------------------------------------------------------------------ checks
 
 
-def check_case(Kff, Gff, er, k: int, source: str, case: str) -> dict:
-    """Refuse a wrong eigensolution; return the record of the checks for the summary."""
+def check_case(Kff, Gff, er, k: int, source: str, case: str, sturm: bool = True) -> dict:
+    """Refuse a wrong eigensolution; return the record of the checks for the summary.
+
+    ``sturm=False`` leaves check 4 to the caller (:class:`SturmWorker` runs it in parallel).
+    """
     lam = np.asarray(er.load_factors, float)
     V = np.asarray(er.modes, float)
     where = f"case '{case}'"
@@ -164,7 +167,8 @@ def check_case(Kff, Gff, er, k: int, source: str, case: str) -> dict:
             raise SolverError(f"{where}: load factor {lam[0]:.6g} lies below {sigma0:.6g}, where "
                               f"the factorization of K + sigma Kg proves there is none", source=source)
         out.update({"shift_sigma": float(sigma0), "shift_count": 0})
-    out.update(sturm_check(Kff, Gff, lam, k, source, case))
+    if sturm:
+        out.update(sturm_check(Kff, Gff, lam, k, source, case))
     return out
 
 
@@ -205,6 +209,59 @@ def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
                          f"{100 * STURM_GAP:g} % of the highest reported one ({top:.6g}); ask for "
                          f"more modes to see them")
     return rec
+
+
+#: free DOFs from which the Sturm counts run in a second process, beside the next case
+PARALLEL_STURM_MIN = 50_000
+
+
+class SturmWorker:
+    r"""One worker process for the Sturm counts of a model's load cases.
+
+    The count needs a factorization of its own (of :math:`K + \sigma K_g`, :math:`\sigma`
+    above the highest load factor) and yields one integer, so it can run on a second core
+    while the main process solves the next case (scipy's SuperLU holds the GIL: threads
+    would not overlap).  The checks are the same as in the serial path
+    (:func:`sturm_check`); a failed count raises when its result is collected.
+    """
+
+    def __init__(self):
+        import multiprocessing as mp
+        from concurrent.futures import ProcessPoolExecutor
+        # "spawn": a fresh interpreter, safe beside BLAS threads (fork is not)
+        self._pool = ProcessPoolExecutor(max_workers=1, mp_context=mp.get_context("spawn"))
+        self._pending = []
+
+    @classmethod
+    def maybe(cls, n_free: int):
+        """A worker when it pays (large model, a second core, allowed to start processes)."""
+        import multiprocessing as mp
+        import os
+        if n_free < PARALLEL_STURM_MIN or mp.current_process().daemon:
+            return None                  # small, or inside a daemonic (e.g. Dask) worker
+        cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count()
+        if (cores or 1) < 2:
+            return None
+        try:
+            return cls()
+        except (OSError, ValueError, AssertionError):
+            return None
+
+    def submit(self, record: dict, Kff, Gff, lam, k: int, source: str, case: str):
+        """Count in the worker; ``record`` (the case's checks) is updated on :meth:`collect`."""
+        fut = self._pool.submit(sturm_check, sp.csr_matrix(Kff), sp.csr_matrix(Gff),
+                                np.asarray(lam, float), k, source, case)
+        self._pending.append((record, fut))
+
+    def collect(self):
+        """Wait for every count; raises the first failed check (SolverError)."""
+        pending, self._pending = self._pending, []
+        for record, fut in pending:
+            record.update(fut.result())
+
+    def close(self):
+        """Stop the worker (pending counts are dropped: only after an error or :meth:`collect`)."""
+        self._pool.shutdown(wait=False, cancel_futures=True)
 
 
 def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=None,
