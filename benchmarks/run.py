@@ -21,6 +21,7 @@ import re
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 from pathlib import Path
 
@@ -44,22 +45,63 @@ def machine():
             "python": platform.python_version()}
 
 
+def _tree_rss_MiB(root: int) -> float:
+    """Resident memory of a process and all its descendants now (Linux /proc), MiB."""
+    parent, rss = {}, {}
+    for d in os.listdir("/proc"):
+        if not d.isdigit():
+            continue
+        try:
+            with open(f"/proc/{d}/stat") as fh:
+                parent[int(d)] = int(fh.read().rsplit(")", 1)[1].split()[1])
+            with open(f"/proc/{d}/statm") as fh:
+                rss[int(d)] = int(fh.read().split()[1]) * os.sysconf("SC_PAGE_SIZE")
+        except (OSError, IndexError, ValueError):
+            continue
+    tree, todo = set(), [root]
+    while todo:
+        q = todo.pop()
+        tree.add(q)
+        todo += [c for c, pp in parent.items() if pp == q and c not in tree]
+    return sum(rss.get(q, 0) for q in tree) / 2**20
+
+
+class _TreePeak(threading.Thread):
+    """Samples the whole process tree's resident memory every 0.2 s (the tool may run a
+    worker process beside itself; wait4's ru_maxrss gives the largest single process)."""
+
+    def __init__(self, pid):
+        super().__init__(daemon=True)
+        self.pid, self.peak, self.done = pid, 0.0, threading.Event()
+
+    def run(self):
+        while not self.done.wait(0.2):
+            try:
+                self.peak = max(self.peak, _tree_rss_MiB(self.pid))
+            except OSError:
+                pass
+
+
 def measure(cmd, timeout=None):
     env = dict(os.environ, PYTHONPATH=str(PLUGIN) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     t = time.perf_counter()
     load0 = os.getloadavg()[0]
     with tempfile.TemporaryFile("w+") as out:
         p = subprocess.Popen(cmd, stdout=out, stderr=subprocess.STDOUT, env=env, text=True)
+        sampler = _TreePeak(p.pid)
+        sampler.start()
         try:
             _, status, ru = os.wait4(p.pid, 0)
         except KeyboardInterrupt:
             p.kill()
             raise
+        finally:
+            sampler.done.set()
         wall = time.perf_counter() - t
         out.seek(0)
         text = out.read()
     return {"cmd": " ".join(map(str, cmd)), "wall_s": wall, "cpu_s": ru.ru_utime + ru.ru_stime,
-            "peak_MiB": ru.ru_maxrss / 1024, "status": status, "load_before": load0,
+            "peak_MiB": ru.ru_maxrss / 1024, "tree_peak_MiB": sampler.peak, "status": status, "load_before": load0,
             "load_after": os.getloadavg()[0], "output": text[-3000:]}
 
 

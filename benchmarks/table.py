@@ -39,7 +39,7 @@ def baseline_of(r):
 
 
 hdr = ("| size | DOFs | tool process [s] | read / assembly / factor / case 1 / case 2 / write [s] | "
-       "tool peak [MiB] | floor splu [s] (factor) | floor pardiso [s] (factor) | tool / floor | "
+       "tool peak [MiB] (process tree) | floor splu [s] (factor) | floor pardiso [s] (factor) | tool / floor | "
        "1 case / floor | extra case / first | baseline [s] | baseline / tool |")
 print(hdr)
 print("|" + "---|" * hdr.count("|")[:-1] if False else "|" + "|".join(["---"] * (hdr.count("|") - 1)) + "|")
@@ -56,7 +56,8 @@ for size in sorted(rows):
     f = lambda x, d=1: "-" if x is None else f"{x:.{d}f}"
     stage = (f"{f(st.get('read'), 2)} / {f(st.get('assembly'), 2)} / {f(st.get('factorization'), 2)} / "
              f"{' / '.join(f(c, 2) for c in cases)} / {f(st.get('write'), 2)}") if st else "failed"
-    print(f"| {size:.0e} | {r.get('dofs', '-')} | {t['wall_s']:.1f} | {stage} | {t['peak_MiB']:.0f} | "
+    peak = f"{t['peak_MiB']:.0f}" + (f" ({t['tree_peak_MiB']:.0f})" if t.get("tree_peak_MiB") else "")
+    print(f"| {size:.0e} | {r.get('dofs', '-')} | {t['wall_s']:.1f} | {stage} | {peak} | "
           + (f"{fl['splu'][0]:.1f} ({fl['splu'][1]:.2f})" if "splu" in fl else "-") + " | "
           + (f"{fl['pardiso'][0]:.1f} ({fl['pardiso'][1]:.2f})" if "pardiso" in fl else "-") + " | "
           + f"{f(t['wall_s'] / best if best else None, 2)} | {f(one / best if best else None, 2)} | "
