@@ -187,7 +187,7 @@ def test_parallel_sturm_counts_equal_the_serial_ones(monkeypatch):
         started.append(True)
         real_init(self)
     monkeypatch.setattr(verify.SturmWorker, "__init__", spy)
-    res = fb.solve(portal(), modes=3, subdivide=2)
+    res = fb.solve(portal(), modes=3, subdivide=2, sturm_worker=True)
     assert started, "the worker process was not used"
     assert "sturm_wait" in res.timings
     parallel = res.summary()["cases"]
@@ -209,7 +209,7 @@ def test_parallel_sturm_count_still_refuses_a_missed_load_factor(monkeypatch):
     monkeypatch.setattr(api, "buckling_modes", skip_lowest)
     monkeypatch.setattr(verify, "DENSE_RETRY", 0)            # no dense second attempt
     with pytest.raises(SolverError, match="missed a load factor|Sturm"):
-        fb.solve(portal(), modes=3, subdivide=2)
+        fb.solve(portal(), modes=3, subdivide=2, sturm_worker=True)
 
 
 def test_no_worker_for_small_models_or_inside_daemonic_workers(monkeypatch):
@@ -220,3 +220,25 @@ def test_no_worker_for_small_models_or_inside_daemonic_workers(monkeypatch):
         daemon = True
     monkeypatch.setattr(mp, "current_process", lambda: Daemon())
     assert verify.SturmWorker.maybe(10 * verify.PARALLEL_STURM_MIN) is None   # e.g. a Dask worker
+
+
+def test_worker_only_when_asked_the_command_line_asks(monkeypatch, tmp_path):
+    """The API starts no process unless asked (multiprocessing "spawn" would import an
+    unguarded calling script again); the solve command asks."""
+    from framebuckle import cli
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
+    started = []
+    real_init = verify.SturmWorker.__init__
+
+    def spy(self):
+        started.append(True)
+        real_init(self)
+    monkeypatch.setattr(verify.SturmWorker, "__init__", spy)
+    res = fb.solve(portal(), modes=3, subdivide=2)
+    assert not started and "sturm_wait" not in res.timings
+    assert res.summary()["cases"][0]["checks"]["sturm_count"] >= 3
+    import meshio
+    path = tmp_path / "portal.vtu"
+    meshio.write(path, portal())
+    assert cli.main(["solve", str(path), "--modes", "3", "--subdivide", "2", "--out", str(tmp_path / "out")]) == 0
+    assert started

@@ -38,7 +38,8 @@ def _as_study(study) -> Study:
 
 def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = None,
           planar: bool | str | None = None, method: str | None = None, progress=None,
-          preload=None, mesh_check=None, moment_terms=None, warping=None) -> Result:
+          preload=None, mesh_check=None, moment_terms=None, warping=None,
+          sturm_worker: bool = False) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
     Parameters
@@ -58,6 +59,11 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
     warping : ``"equivalent"`` (default) or ``"dof"``: a warping DOF for cells with ``Iw``
         (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.warping`
+    sturm_worker : run the Sturm counts of large models in a second process beside the next
+        case (:class:`framebuckle.verify.SturmWorker`; the command line does).  Off by default:
+        the process is started with multiprocessing's "spawn", which imports the calling
+        script again, so a script that sets it must guard its entry point with
+        ``if __name__ == "__main__":``.
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -78,7 +84,8 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     t_read = time.perf_counter() - t0
     options = {"preload": _preload.parse(preload, st, im.cases, im.source),
                "mesh_check": _adequacy.parse(mesh_check, st, im.source),
-               "moment_terms": _moment_setting(moment_terms, st, im.source)}
+               "moment_terms": _moment_setting(moment_terms, st, im.source),
+               "parallel_sturm": bool(sturm_worker)}
     if _warping.parse(warping, st, im.source) == "dof" and im.extra.get("Iw") is not None:
         options["warping"] = _warping.restrained_points(im, st)
     res = run(im, k, m, pl, meth, progress=progress, options=options)
@@ -131,7 +138,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     cases = []
     v0 = None
     # the Sturm counts of large models run in a second process beside the next case
-    worker = verify.SturmWorker.maybe(len(free)) if options.get("parallel_sturm", True) else None
+    worker = verify.SturmWorker.maybe(len(free)) if options.get("parallel_sturm") else None
     try:
         for icase, case in enumerate(im.cases):
             t = time.perf_counter()

@@ -157,7 +157,8 @@ def cmd_report(args) -> int:
     from .study import load_study
     study = load_study(args.study) if args.study else None
     with Progress(0, "solve") as bar:
-        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, progress=bar)
+        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
+                       sturm_worker=True, progress=bar)
     path = make_report(result, Path(args.out), study=study, force=args.force)
     print_result(result, {"report": path})
     return 0
@@ -209,7 +210,8 @@ def cmd_solve(args) -> int:
     from .progress import Progress
     from .write import write_result
     with Progress(0, "solve") as bar:      # drawn only on a terminal
-        result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide, progress=bar)
+        result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide,
+                       sturm_worker=True, progress=bar)
     t = time.perf_counter()
     paths = write_result(result, Path(args.out), force=args.force)
     result.timings["write"] = time.perf_counter() - t
@@ -265,7 +267,7 @@ def cmd_check(args) -> int:
     from .check import format_table, run_check, write_check
     from .write import _jsonable
     study = _as_study(args.study)
-    result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide)
+    result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
     report = run_check(result, study, args.min_alpha)
     paths = write_check(result, report, Path(args.out), force=args.force)
     if args.json:
