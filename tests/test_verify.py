@@ -242,3 +242,42 @@ def test_worker_only_when_asked_the_command_line_asks(monkeypatch, tmp_path):
     meshio.write(path, portal())
     assert cli.main(["solve", str(path), "--modes", "3", "--subdivide", "2", "--out", str(tmp_path / "out")]) == 0
     assert started
+
+
+@pytest.mark.parametrize("k", [2, 3], ids=["gap-after-k", "cluster-after-k"])
+def test_sturm_count_started_before_convergence_equals_the_final_one(monkeypatch, k):
+    """With the shifted block method the worker may start the count as soon as the Ritz
+    values are good to about 1e-10 (gap-after-k: lambda_3 is 0.5 % above lambda_2); it is
+    kept only if its shift lies between the converged k-th and (k+1)-th load factors, so the
+    record equals the one made after convergence.  After k = 3 a cluster of repeated values
+    follows (the count there finds them): no early start, the usual count."""
+    kw = dict(modes=k, subdivide=16, method="block")
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 10**9)
+    serial = fb.solve(portal(), **kw).summary()["cases"][0]["checks"]
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
+    early = fb.solve(portal(), sturm_worker=True, **kw).summary()["cases"][0]["checks"]
+    assert early.pop("sturm_started_early", False) == (k == 2)
+    assert early.pop("sturm_shift") == pytest.approx(serial.pop("sturm_shift"), rel=1e-9)
+    assert early == serial
+    if k == 2:
+        assert early["sturm_count"] == early["sturm_expected"] == 2
+    else:
+        assert early["sturm_count"] > early["sturm_expected"] == 3 and "sturm_note" in early
+
+
+def test_early_sturm_count_still_refuses_a_missed_load_factor(monkeypatch):
+    monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
+    api = _api_module()
+    real = api.buckling_modes
+    fired = []
+
+    def skip_lowest(factor, Kff, Gff, k=4, **kw):
+        start = kw.get("early_sturm")
+        if start is not None:
+            kw["early_sturm"] = lambda sigma: (fired.append(sigma), start(sigma))
+        er = real(factor, Kff, Gff, k + 1, **kw)
+        return replace(er, load_factors=er.load_factors[1:], modes=er.modes[:, 1:], residuals=er.residuals[1:])
+    monkeypatch.setattr(api, "buckling_modes", skip_lowest)
+    with pytest.raises(SolverError, match="missed a load factor"):
+        fb.solve(portal(), modes=1, subdivide=16, method="block", sturm_worker=True)
+    assert fired, "the count was not started early"
