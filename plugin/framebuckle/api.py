@@ -150,13 +150,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                 cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
                 continue
             Gff = geo(case)[free][:, free]
-            early = []                          # (sigma, future) of a Sturm count started early
-
-            def start_count(sigma, Kc=Kc, Gff=Gff, early=early):
-                early.append(worker.start(Kc, Gff, sigma))
             try:
-                er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name,
-                                    early_sturm=start_count if worker is not None else None)
+                er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
                 try:
                     checks = verify.check_case(Kc, Gff, er, k, im.source, case.name,
                                                sturm=worker is None)
@@ -170,8 +165,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             except SolverError as exc:
                 raise _explained(exc, warnings) from None
             if worker is not None and len(er.load_factors):
-                worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name,
-                              early=early[0] if early else None, next_load_factor=er.next_load_factor)
+                worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             if len(er.load_factors) == 0:
                 cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                         method=er.method))

@@ -124,7 +124,7 @@ EXPAND = 2
 def block_krylov_schur(solve, K, mG, nev: int, *, block: int | None = None,
                        basis: int | None = None, tol: float = 1e-8, X0=None,
                        max_cycles: int = 200, seed: int = 0, progress=None,
-                       accept=None, monitor=None) -> BlockResult:
+                       accept=None) -> BlockResult:
     """Largest ``nev`` eigenpairs of ``mG x = theta K x`` (``solve(B)`` = ``K^{-1} B`` for 2D B).
 
     ``X0`` (n, j) warm-starts the first block (e.g. the previous load case's modes).
@@ -133,19 +133,16 @@ def block_krylov_schur(solve, K, mG, nev: int, *, block: int | None = None,
     tolerance is tightened 100 times (down to 1e-12) and the iteration goes on.
     The dense products here are tall and skinny (memory bound): BLAS runs on one
     thread, which is as fast on a quiet machine and several times faster on a busy one.
-    ``monitor(theta, res)``: called after every Rayleigh-Ritz step with the ``nev`` Ritz
-    values (descending) and their relative Krylov residuals.
     """
     try:
         from threadpoolctl import threadpool_limits
     except ImportError:                          # optional: only a speed matter
-        return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept, monitor)
+        return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept)
     with threadpool_limits(limits=1, user_api="blas"):
-        return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept, monitor)
+        return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept)
 
 
-def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept,
-         monitor=None) -> BlockResult:
+def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept) -> BlockResult:
     n = K.shape[0]
     rng = np.random.default_rng(seed)
     b = int(block or max(nev, 4))
@@ -204,8 +201,6 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
         nconv = nev if ok.all() else int(np.argmin(ok))
         if progress:
             progress(cycle, nconv, nev)
-        if monitor is not None:
-            monitor(theta.copy(), res.copy())
         if nconv >= nev or cycle == max_cycles:
             Xr = V[:, :j] @ Y[:, :nev]
             if nconv >= nev and accept is not None and not accept(theta, Xr):

@@ -273,8 +273,6 @@ class EigenResult:
     method: str = "arpack"
     notes: list = field(default_factory=list)
     shift: float | None = None       # sigma with K + sigma Kg proved positive definite (no load factor <= sigma)
-    next_load_factor: float | None = None   # the (k+1)-th load factor, computed to see a cluster
-    early_sturm: float | None = None # sigma at which the Sturm count was started early (see _EarlySturm)
 
 
 #: shift-invert the block eigensolver at sigma below the lowest load factor (see _shift)
@@ -309,42 +307,9 @@ def _shift(factor: Factor, Kff, Gff, v0=None, block: int = 4):
     return sh
 
 
-#: Krylov residual below which every Ritz pair must be before the Sturm count starts early
-EARLY_STURM_RES = 1e-5
-
-
-class _EarlySturm:
-    r"""Starts a case's Sturm count before its block iteration has converged.
-
-    Called with the Ritz values :math:`\theta` of :math:`\nu = 1/(\lambda - \sigma_0)` and
-    their residuals after every restart.  Once all residuals are below
-    :data:`EARLY_STURM_RES` (the load factor estimates are then good to about the square of
-    that) and the ``k``-th and ``k+1``-th estimates are more than twice the Sturm gap apart,
-    ``start(sigma)`` is called once with ``sigma = (1 + gap)`` times the ``k``-th estimate:
-    where :func:`framebuckle.verify.sturm_check` would count after convergence.  The caller
-    accepts that count only if the converged ``k``-th and ``k+1``-th load factors lie on
-    either side of ``sigma``.
-    """
-
-    def __init__(self, sigma0: float, k: int, start):
-        from .verify import STURM_GAP
-        self.sigma0, self.k, self.start, self.gap, self.sigma = sigma0, k, start, STURM_GAP, None
-
-    def __call__(self, theta, res):
-        if self.sigma is not None or len(theta) <= self.k or not (res < EARLY_STURM_RES).all():
-            return
-        if not (theta > 0).all():
-            return
-        lam = np.sort(self.sigma0 + 1.0 / theta)
-        if lam[self.k] <= lam[self.k - 1] * (1.0 + 2.0 * self.gap):
-            return                           # a cluster at the k-th value: count at the end
-        self.sigma = float(lam[self.k - 1] * (1.0 + self.gap))
-        self.start(self.sigma)
-
-
 def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 4,
                    method: str = "auto", v0: np.ndarray | None = None,
-                   source: str = "<model>", case: str = "", early_sturm=None) -> EigenResult:
+                   source: str = "<model>", case: str = "") -> EigenResult:
     r"""Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs.
 
     ``method``: ``"dense"`` (scipy.linalg.eigh), ``"arpack"`` (one vector at a time),
@@ -353,15 +318,12 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
     :math:`\nu = 1/(\lambda - \sigma)` with :math:`K + \sigma K_g` factored and proved positive
     definite, see :func:`_shift`, when :data:`BLOCK_SHIFT`) or ``"auto"``
     (dense for small models, else block).  ``v0``: start vector(s), e.g. the previous
-    load case's modes (a 1D vector or an (n, j) block).  ``early_sturm(sigma)``: called once
-    by the shifted block method when the Sturm count can start before convergence
-    (:class:`_EarlySturm`; ``EigenResult.early_sturm`` records its ``sigma``).
+    load case's modes (a 1D vector or an (n, j) block).
     """
     n = Kff.shape[0]
     k = int(k)
     kk = k + 1                               # one extra to see whether a cluster continues
     shift = None
-    early = None
     if method == "auto":
         method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "block"
     if method == "dense" or kk + 2 >= n:
@@ -388,9 +350,8 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL, accept=accept)
         else:                                # nu = 1/(lambda - sigma) of -Kg phi = nu (K + sigma Kg) phi
             s = shift.sigma
-            early = _EarlySturm(s, k, early_sturm) if early_sturm is not None else None
             br = block_krylov_schur(shift.solve, shift.A, -Gff, kk, X0=shift.start, tol=BLOCK_TOL,
-                                    accept=lambda nu, X: accept(nu / (1.0 + s * nu), X), monitor=early)
+                                    accept=lambda nu, X: accept(nu / (1.0 + s * nu), X))
             mu_s = br.theta / (1.0 + s * br.theta)       # mu = 1/lambda, same order for nu > 0,
             order = np.argsort(-mu_s, kind="stable")     # but rounding can swap exact repeats
             br.theta, br.vectors = mu_s[order], br.vectors[:, order]
@@ -413,7 +374,6 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
     mu, vec = mu[pos], vec[:, pos]
     lam = 1.0 / mu
     cluster = bool(len(lam) > k and abs(lam[k] - lam[k - 1]) <= 1e-6 * abs(lam[k - 1]))
-    nxt = float(lam[k]) if len(lam) > k else None
     lam, vec = lam[:k], vec[:, :k]
     Kv = Kff @ vec
     res = np.linalg.norm(Kv + lam * (Gff @ vec), axis=0) / np.maximum(np.linalg.norm(Kv, axis=0), 1e-300)
@@ -423,5 +383,4 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
                           f"(||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g})",
                           source=source)
     return EigenResult(lam, vec, res, cluster, method,
-                       shift=shift.sigma if method == "block" and shift is not None else None,
-                       next_load_factor=nxt, early_sturm=early.sigma if early is not None else None)
+                       shift=shift.sigma if method == "block" and shift is not None else None)

@@ -175,25 +175,11 @@ def check_case(Kff, Gff, er, k: int, source: str, case: str, sturm: bool = True)
 def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
     r"""Confirm with inertia counts that no load factor below the highest reported was missed."""
     lam = np.sort(np.asarray(lam, float))
-    top = float(lam[-1])
-    sigma = top * (1.0 + STURM_GAP) if len(lam) >= k else top * STURM_FAR
-    n_hi, how = count_at(Kff, Gff, sigma)
-    return judge_sturm(Kff, Gff, lam, k, source, case, sigma, n_hi, how)
-
-
-def count_at(Kff, Gff, sigma: float) -> tuple[int | None, str]:
-    """Negative pivots of ``K + sigma Kg`` (:func:`negative_count`): the number of load factors
-    in ``(0, sigma)``."""
-    return negative_count(Kff + sigma * Gff)
-
-
-def judge_sturm(Kff, Gff, lam, k: int, source: str, case: str, sigma: float, n_hi, how) -> dict:
-    """The verdict of :func:`sturm_check` on a count ``n_hi`` made at ``sigma`` (just above the
-    highest reported load factor and, when all ``k`` are reported, below the next one)."""
-    lam = np.sort(np.asarray(lam, float))
     where = f"case '{case}'"
     top = float(lam[-1])
     complete = len(lam) >= k
+    sigma = top * (1.0 + STURM_GAP) if complete else top * STURM_FAR
+    n_hi, how = negative_count(Kff + sigma * Gff)
     rec = {"sturm_shift": sigma, "sturm_count": n_hi, "sturm_expected": int(len(lam)),
            "sturm_method": how}
     if n_hi is None:
@@ -261,42 +247,17 @@ class SturmWorker:
         except (OSError, ValueError, AssertionError):
             return None
 
-    def start(self, Kff, Gff, sigma: float):
-        """Start a bare count at ``sigma`` (before the case's load factors are final); hand
-        the returned future to :meth:`submit` as ``early``."""
-        return (float(sigma), self._pool.submit(count_at, sp.csr_matrix(Kff), sp.csr_matrix(Gff),
-                                                float(sigma)))
-
-    def submit(self, record: dict, Kff, Gff, lam, k: int, source: str, case: str,
-               early=None, next_load_factor=None):
-        """Count in the worker; ``record`` (the case's checks) is updated on :meth:`collect`.
-
-        ``early = (sigma, future)`` from :meth:`start` is used when ``sigma`` lies above the
-        ``k``-th reported load factor and below the next one (``next_load_factor``), i.e.
-        where :func:`sturm_check` would count; otherwise it is dropped and the usual count
-        is made.
-        """
-        lam = np.sort(np.asarray(lam, float))
-        if (early is not None and len(lam) >= k and next_load_factor is not None
-                and lam[-1] < early[0] < next_load_factor):
-            self._pending.append((record, early[1], (Kff, Gff, lam, k, source, case, early[0])))
-            return
-        if early is not None:
-            early[1].cancel()                # not started yet: dropped; else it just runs out
-        fut = self._pool.submit(sturm_check, sp.csr_matrix(Kff), sp.csr_matrix(Gff), lam, k, source, case)
-        self._pending.append((record, fut, None))
+    def submit(self, record: dict, Kff, Gff, lam, k: int, source: str, case: str):
+        """Count in the worker; ``record`` (the case's checks) is updated on :meth:`collect`."""
+        fut = self._pool.submit(sturm_check, sp.csr_matrix(Kff), sp.csr_matrix(Gff),
+                                np.asarray(lam, float), k, source, case)
+        self._pending.append((record, fut))
 
     def collect(self):
         """Wait for every count; raises the first failed check (SolverError)."""
         pending, self._pending = self._pending, []
-        for record, fut, judge in pending:
-            if judge is None:
-                record.update(fut.result())
-            else:                            # a count started early: judged here as sturm_check would
-                Kff, Gff, lam, k, source, case, sigma = judge
-                n_hi, how = fut.result()
-                record.update(judge_sturm(Kff, Gff, lam, k, source, case, sigma, n_hi, how))
-                record["sturm_started_early"] = True
+        for record, fut in pending:
+            record.update(fut.result())
 
     def close(self):
         """Stop the worker (pending counts are dropped: only after an error or :meth:`collect`)."""
