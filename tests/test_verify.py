@@ -174,19 +174,25 @@ def _api_module():
     return sys.modules["framebuckle.api"]
 
 
-def test_parallel_sturm_counts_equal_the_serial_ones(monkeypatch):
+@pytest.fixture
+def started(monkeypatch):
+    """A list that gets an entry each time a SturmWorker (a second process) is started."""
+    calls = []
+    real_init = verify.SturmWorker.__init__
+
+    def spy(self):
+        calls.append(True)
+        real_init(self)
+    monkeypatch.setattr(verify.SturmWorker, "__init__", spy)
+    return calls
+
+
+def test_parallel_sturm_counts_equal_the_serial_ones(monkeypatch, started):
     """Large models count in a worker process; the record must be the one the serial
     path writes (same count, shift and method), for every case."""
     monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 10**9)
     serial = fb.solve(portal(), modes=3, subdivide=2).summary()["cases"]
     monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
-    started = []
-    real_init = verify.SturmWorker.__init__
-
-    def spy(self):
-        started.append(True)
-        real_init(self)
-    monkeypatch.setattr(verify.SturmWorker, "__init__", spy)
     res = fb.solve(portal(), modes=3, subdivide=2, sturm_worker=True)
     assert started, "the worker process was not used"
     assert "sturm_wait" in res.timings
@@ -222,18 +228,11 @@ def test_no_worker_for_small_models_or_inside_daemonic_workers(monkeypatch):
     assert verify.SturmWorker.maybe(10 * verify.PARALLEL_STURM_MIN) is None   # e.g. a Dask worker
 
 
-def test_worker_only_when_asked_the_command_line_asks(monkeypatch, tmp_path):
+def test_worker_only_when_asked_the_command_line_asks(monkeypatch, tmp_path, started):
     """The API starts no process unless asked (multiprocessing "spawn" would import an
     unguarded calling script again); the solve command asks."""
     from framebuckle import cli
     monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
-    started = []
-    real_init = verify.SturmWorker.__init__
-
-    def spy(self):
-        started.append(True)
-        real_init(self)
-    monkeypatch.setattr(verify.SturmWorker, "__init__", spy)
     res = fb.solve(portal(), modes=3, subdivide=2)
     assert not started and "sturm_wait" not in res.timings
     assert res.summary()["cases"][0]["checks"]["sturm_count"] >= 3
