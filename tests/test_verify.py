@@ -241,3 +241,23 @@ def test_worker_only_when_asked_the_command_line_asks(monkeypatch, tmp_path, sta
     meshio.write(path, portal())
     assert cli.main(["solve", str(path), "--modes", "3", "--subdivide", "2", "--out", str(tmp_path / "out")]) == 0
     assert started
+
+
+def test_sturm_worker_that_dies_is_replaced_by_a_count_here(portal_pencil):
+    """A worker process that dies (killed, out of memory) loses no check: the count is
+    made in the main process, with the same record as the serial path."""
+    import os
+    factor, Kff, Gff, lam = portal_pencil
+    er = _dense_result(Kff, Gff, 3)
+    serial = verify.sturm_check(Kff, Gff, er.load_factors, 3, "<test>", "c")
+    w = verify.SturmWorker()
+    try:
+        before, after = {}, {}
+        w.submit(before, Kff, Gff, er.load_factors, 3, "<test>", "c")
+        w.collect()
+        w._pool.submit(os._exit, 1)                      # the worker process dies
+        w.submit(after, Kff, Gff, er.load_factors, 3, "<test>", "c")
+        w.collect()
+    finally:
+        w.close()
+    assert before == serial and after == serial and serial["sturm_count"] >= 3

@@ -162,10 +162,10 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                     er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
                     checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
                     checks["retried_dense"] = True
+                if worker is not None and len(er.load_factors):
+                    worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             except SolverError as exc:
                 raise _explained(exc, warnings) from None
-            if worker is not None and len(er.load_factors):
-                worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             if len(er.load_factors) == 0:
                 cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
                                         method=er.method))

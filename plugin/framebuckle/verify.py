@@ -248,16 +248,37 @@ class SturmWorker:
             return None
 
     def submit(self, record: dict, Kff, Gff, lam, k: int, source: str, case: str):
-        """Count in the worker; ``record`` (the case's checks) is updated on :meth:`collect`."""
-        fut = self._pool.submit(sturm_check, sp.csr_matrix(Kff), sp.csr_matrix(Gff),
-                                np.asarray(lam, float), k, source, case)
-        self._pending.append((record, fut))
+        """Count in the worker; ``record`` (the case's checks) is updated on :meth:`collect`
+        (or earlier, when a later submit finds the count done).  Raises a failed earlier
+        count's SolverError."""
+        self._harvest(wait=False)
+        args = (sp.csr_matrix(Kff), sp.csr_matrix(Gff), np.asarray(lam, float), k, source, case)
+        try:
+            fut = self._pool.submit(sturm_check, *args)
+        except Exception:                    # noqa: BLE001 - the worker is gone: count here
+            record.update(sturm_check(*args))
+            return
+        self._pending.append((record, fut, args))
 
     def collect(self):
         """Wait for every count; raises the first failed check (SolverError)."""
-        pending, self._pending = self._pending, []
-        for record, fut in pending:
-            record.update(fut.result())
+        self._harvest(wait=True)
+
+    def _harvest(self, wait: bool):
+        keep = []
+        for record, fut, args in self._pending:
+            if not wait and not fut.done():
+                keep.append((record, fut, args))
+                continue
+            try:
+                rec = fut.result()
+            except SolverError:
+                self._pending = []
+                raise
+            except Exception:                # noqa: BLE001 - the worker died (killed, out of
+                rec = sturm_check(*args)     # memory): the count is made here instead
+            record.update(rec)
+        self._pending = keep
 
     def close(self):
         """Stop the worker (pending counts are dropped: only after an error or :meth:`collect`)."""
