@@ -70,13 +70,7 @@ class Assembler:
                    slot.reshape(-1), n)
 
     def _csr(self, values: np.ndarray) -> sp.csr_matrix:
-        data = np.bincount(self.slot, weights=values.reshape(-1), minlength=len(self.indices))
-        # copies of the pattern arrays: eliminate_zeros compacts them in place
-        m = sp.csr_matrix((data, self.indices.copy(), self.indptr.copy()), shape=(self.n, self.n))
-        # the node-pair pattern stores the exact zeros of the 6 x 6 blocks (most of them for
-        # members along the global axes): dropped, products and the factorization are faster
-        m.eliminate_zeros()
-        return m
+        return scatter_csr(self.slot, values, self.indices, self.indptr, self.n)
 
     def matrix(self, values: np.ndarray) -> sp.csr_matrix:
         """Assemble any global element matrices ``values`` (e, 12, 12) on this pattern."""
@@ -90,6 +84,21 @@ class Assembler:
     def geometric(self, axial: np.ndarray) -> sp.csr_matrix:
         """Global geometric stiffness for element axial forces (tension positive)."""
         return self._csr(self.Ge * np.asarray(axial, dtype=float)[:, None, None])
+
+
+def scatter_csr(slot, values, indices, indptr, n: int) -> sp.csr_matrix:
+    """Sum the element entries ``values`` into their CSR positions ``slot`` of the fixed
+    pattern ``(indices, indptr)``; exact zeros are dropped from the result.
+
+    The pattern stores every entry of the coupled DOF blocks, and most of them are exact
+    zeros for members along the global axes: without them products and the factorization
+    are faster.  The pattern arrays are copied (``eliminate_zeros`` compacts in place and
+    the pattern serves every load case).
+    """
+    data = np.bincount(slot, weights=np.asarray(values, dtype=float).reshape(-1), minlength=len(indices))
+    m = sp.csr_matrix((data, indices.copy(), indptr.copy()), shape=(n, n))
+    m.eliminate_zeros()
+    return m
 
 
 def assemble(frame: Frame, axial: np.ndarray | None = None):

@@ -43,6 +43,7 @@ import scipy.sparse as sp
 from .elements import (_bend, _put, beam_elastic_local, beam_geometric_local, element_dofs,
                        element_matrices, geometric_4x4, local_axes, local_matrices, shear_parameters,
                        transformation)
+from .assemble import scatter_csr
 from .errors import InputError
 from .moments import _GP, _GW, hermite_d2, moment_geometric_global
 from .solve import Constraints, check_supported, find_constraints
@@ -192,11 +193,7 @@ class WarpingAssembler:
 
     def _csr(self, v12, v14):
         vals = np.concatenate([np.asarray(v12).reshape(-1), np.asarray(v14).reshape(-1)])
-        data = np.bincount(self.slot, weights=vals, minlength=len(self.indices))
-        # copies of the pattern arrays: eliminate_zeros compacts them in place
-        m = sp.csr_matrix((data, self.indices.copy(), self.indptr.copy()), shape=(self.n, self.n))
-        m.eliminate_zeros()                   # exact zeros of the pattern (see assemble._csr)
-        return m
+        return scatter_csr(self.slot, vals, self.indices, self.indptr, self.n)
 
     def stiffness(self):
         return self._csr(self.Ke_s, self.K14)
