@@ -60,6 +60,8 @@ def test_check_passes_and_files_read_back(portal_file, tmp_path):
     Ncr = float(col["N_cr"])
     # slenderness sqrt(A fy / N_cr), EN 1993-1-1:2005 Eq. (6.50)
     assert float(col["slenderness"]) == pytest.approx(math.sqrt(5e-3 * 355e6 / Ncr), rel=1e-8)
+    # effective length from N_cr = pi^2 E I / L_cr^2 (Euler; Timoshenko & Gere 1961, Theory of
+    # Elastic Stability, sec. 2.1, from memory)
     assert float(col["L_cr"]) == pytest.approx(math.pi * math.sqrt(F.E * 8e-6 / Ncr), rel=1e-8)
     assert sum(float(r["energy_share"]) for r in g1) == pytest.approx(1.0, abs=1e-8)
     beam = [r for r in g1 if r["status"] == "negligible"][0]
