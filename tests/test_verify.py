@@ -261,3 +261,10 @@ def test_sturm_worker_that_dies_is_replaced_by_a_count_here(portal_pencil):
     finally:
         w.close()
     assert before == serial and after == serial and serial["sturm_count"] >= 3
+
+
+def test_dense_retry_never_applies_where_the_count_runs_in_the_worker():
+    # api.run retries a case densely when its own Sturm count finds a skipped copy of a repeated
+    # load factor (at most DENSE_RETRY free DOFs); a count made in the worker can only refuse the
+    # case. Both paths behave alike only while the worker starts above the retry limit.
+    assert verify.DENSE_RETRY < verify.PARALLEL_STURM_MIN

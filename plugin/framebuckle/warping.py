@@ -40,10 +40,10 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
+from .assemble import scatter_csr
 from .elements import (_bend, _put, beam_elastic_local, beam_geometric_local, element_dofs,
                        element_matrices, geometric_4x4, local_axes, local_matrices, shear_parameters,
                        transformation)
-from .assemble import scatter_csr
 from .errors import InputError
 from .moments import _GP, _GW, hermite_d2, moment_geometric_global
 from .solve import Constraints, check_supported, find_constraints
