@@ -1,8 +1,10 @@
 r"""Strain energy of buckling modes per member, and the type of each mode.
 
 For a mode :math:`\phi` of the refined model and each sub-element ``e`` with
-local displacements :math:`u_e = T_e \phi_e` the strain energy splits exactly
-(the local elastic matrix is block-diagonal in these DOF groups) into
+local displacements :math:`u_e = T_e \phi_e` and the element matrices the solve
+assembled (:mod:`framebuckle.solvedmatrices`: end releases condensed, shear,
+end-moment terms, warping DOFs) the strain energy splits exactly (the local
+elastic matrix, condensed or not, is block-diagonal in these DOF groups) into
 
 .. math::
 
@@ -10,8 +12,11 @@ local displacements :math:`u_e = T_e \phi_e` the strain energy splits exactly
 
 with :math:`U_{bend,y}` the bending about local y (x-z plane, ``E Iy``) and
 :math:`U_{bend,z}` about local z (x-y plane, ``E Iz``).  The geometric work
-:math:`W_e = -N_e\, u_e^T G_e u_e` (positive in compression) sums to
-:math:`-\phi^T K_g \phi = \phi^T K \phi / \alpha`.  All of it is computed
+:math:`W_e = -u_e^T K_{g,e} u_e` (:math:`K_{g,e} = N_e G_e` plus the moment
+terms; positive in compression) sums to
+:math:`-\phi^T K_g \phi = \phi^T K \phi / \alpha`.  With the matrices of an
+unreleased element for a released one the sums do not match and members that
+carry nothing (a pinned beam without axial force) take large shares.  All of it is computed
 for all sub-elements and modes at once (einsum over ``(k, e, 12)``).
 
 Mode type (documented thresholds):
