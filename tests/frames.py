@@ -66,3 +66,73 @@ def cruciform(L=1.0, b=0.1, t=0.01, N=-1000.0, ncell=2):
     J = 4 * b * t ** 3 / 3
     m = column(ncell, PINNED, [1, 1, 0, 1, 0, 0], L=L, I=I, A=A, J=J, N=N, Iz_factor=1.0)
     return m, {"A": A, "I": I, "J": J, "Ip": 2 * I}
+
+
+def mezzanine(pinned_beams=True, scale=None):
+    """Invented braced two-storey mezzanine, 2 x 1 bays (10 m x 4 m), storeys of 3.5 m.
+
+    Columns pinned at the base (twist held) and continuous through the first floor; floor
+    beams pinned to the columns at both ends (releases My, Mz) when ``pinned_beams``; single
+    diagonal bars brace the four outer walls of bay 1 / the end walls in every storey and bay 1
+    of both floors.  Columns carry the floor loads (interior lines 2 and 1.5 times the edge lines), beams
+    and bars carry no axial force.  ``scale`` = {cell: factor} multiplies Iy and Iz of cells.
+
+    Cells: 0-11 columns (line by line: lower, upper), 12-25 beams (level 1, then level 2:
+    x-beams y = 0, y = 4, then y-beams x = 0, 5, 10), 26-35 bars.  Explicit member labels:
+    column line ``c`` storey ``s`` -> ``10 c + s + 1``, beam ``j`` -> ``100 + j``, bar ``j`` -> ``200 + j``.
+    """
+    xs, ys, zs = (0.0, 5.0, 10.0), (0.0, 4.0), (0.0, 3.5, 7.0)
+    pts = [(x, y, z) for z in zs for y in ys for x in xs]
+    idx = {p: i for i, p in enumerate(pts)}
+    P = lambda x, y, z: idx[(x, y, z)]
+    cols, beams, bars = [], [], []
+    for y in ys:
+        for x in xs:
+            cols += [[P(x, y, zs[0]), P(x, y, zs[1])], [P(x, y, zs[1]), P(x, y, zs[2])]]
+    for z in zs[1:]:
+        for y in ys:
+            beams += [[P(xs[0], y, z), P(xs[1], y, z)], [P(xs[1], y, z), P(xs[2], y, z)]]
+        for x in xs:
+            beams.append([P(x, ys[0], z), P(x, ys[1], z)])
+    for s in range(2):
+        z0, z1 = zs[s], zs[s + 1]
+        for y in ys:                                          # walls y = 0, 4: bay 1
+            bars.append([P(xs[0], y, z0), P(xs[1], y, z1)])
+        for x in (xs[0], xs[2]):                              # end walls x = 0, 10
+            bars.append([P(x, ys[0], z0), P(x, ys[1], z1)])
+        bars.append([P(xs[0], ys[0], z1), P(xs[1], ys[1], z1)])   # floor, bay 1
+    cells = cols + beams + bars
+    nc, nb, nr = len(cols), len(beams), len(bars)
+    n = len(cells)
+    r = np.zeros((len(pts), 6))
+    r[[i for i, p in enumerate(pts) if p[2] == 0.0]] = [1, 1, 1, 0, 0, 1]
+    # columns: about 2 x HEB 160-like section; beams IPE 300-like; bars 30 mm rods (invented)
+    A = np.r_[np.full(nc, 5.4e-3), np.full(nb, 5.4e-3), np.full(nr, 7.1e-4)]
+    Iy = np.r_[np.full(nc, 2.5e-5), np.full(nb, 8.4e-5), np.full(nr, 4e-8)]
+    Iz = np.r_[np.full(nc, 8.9e-6), np.full(nb, 6.0e-6), np.full(nr, 4e-8)]
+    J = np.r_[np.full(nc, 3.1e-7), np.full(nb, 2.0e-7), np.full(nr, 8e-8)]
+    for c, f in (scale or {}).items():
+        Iy[c] *= f
+        Iz[c] *= f
+    Ncol = []
+    for y in ys:
+        for x in xs:
+            w = (2.0 if y == ys[0] else 1.5) if x == xs[1] else 1.0
+            Ncol += [-300e3 * w, -150e3 * w]
+    N = np.r_[Ncol, np.zeros(nb + nr)]
+    orient = np.zeros((n, 3))
+    orient[:nc] = [1.0, 0.0, 0.0]
+    orient[nc:] = [0.0, 0.0, 1.0]
+    orient[nc + nb:] = [0.0, 0.0, 1.0]
+    for j in range(nc + nb, n):                               # bars: any vector off their axis
+        d = np.subtract(pts[cells[j][1]], pts[cells[j][0]])
+        orient[j] = [0.0, 1.0, 0.0] if abs(d[1]) < 1e-9 else [1.0, 0.0, 0.0] if abs(d[0]) < 1e-9 else [0, 0, 1.0]
+    member = np.r_[[10 * (i // 2) + i % 2 + 1 for i in range(nc)], 100 + np.arange(nb), 200 + np.arange(nr)]
+    fields = {"axial_force": N, "E": np.full(n, E), "G": np.full(n, G), "A": A, "Iy": Iy, "Iz": Iz,
+              "J": J, "orientation": orient, "bar": np.r_[np.zeros(nc + nb), np.ones(nr)], "member": member}
+    if pinned_beams:
+        rel = np.zeros((n, 6))
+        rel[nc:nc + nb] = [0, 0, 0, 0, 1, 1]
+        fields["release_start"] = rel
+        fields["release_end"] = rel
+    return mesh(pts, cells, r, fields)

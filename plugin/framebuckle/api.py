@@ -173,6 +173,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             v0 = er.modes                       # warm start of the next case: neighbouring combinations
             full = np.zeros((asm.n, er.modes.shape[1]))
             full[free] = er.modes
+            wmodes = full[fine.n_dofs:].T.copy() if asm.n > fine.n_dofs else None
             full = full[:fine.n_dofs]
             notes = list(case.extra.get("notes", []))
             if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
@@ -191,8 +192,13 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                 notes.append("the iterative eigensolver returned too few copies of a repeated load factor "
                              "(found by the Sturm count); this case was solved again with the dense solver")
             notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
-            cases.append(CaseResult(case.name, "ok", er.load_factors, normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max())),
-                                    er.residuals, er.cluster_continues, er.method, notes, checks))
+            modes = normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max()))
+            if wmodes is not None:              # the same scale as the nodal part of each mode
+                j = np.abs(full).argmax(axis=0)
+                wmodes *= (modes.reshape(len(j), -1)[np.arange(len(j)), j] / full[j, np.arange(len(j))])[:, None]
+            cases.append(CaseResult(case.name, "ok", er.load_factors, modes,
+                                    er.residuals, er.cluster_continues, er.method, notes, checks,
+                                    moment_terms=geo.has_moments(case), warping_modes=wmodes))
             timings["cases"].append(time.perf_counter() - t)
             if progress:
                 progress(case.name)

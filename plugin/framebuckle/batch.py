@@ -53,16 +53,16 @@ def expand_inputs(patterns) -> list[str]:
 
 def governing_member(result, case) -> object:
     """Input member (``member`` field, else input cell number) doing most of the
-    geometric work ``-P u^T G_e u`` in the first mode of ``case``; None without modes."""
-    from .elements import element_dofs, element_matrices
+    geometric work ``-u^T K_g,e u`` in the first mode of ``case`` (the matrices the solve
+    used: :mod:`framebuckle.solvedmatrices`); None without modes."""
+    from .participation import element_energies
+    from .solvedmatrices import for_case
     c = result.case(case)
     if c.status != "ok" or not len(c.load_factors):
         return None
     fine = result.fine
-    axial = result.refined.fine_axial(next(x for x in result.input.cases if x.name == c.name).axial)
-    _, Ge, _ = element_matrices(fine)
-    u = c.modes[0].reshape(-1)[element_dofs(fine)]
-    work = -axial * np.einsum("ei,eij,ej->e", u, Ge, u)
+    wm = None if c.warping_modes is None else c.warping_modes[:1]
+    work = element_energies(for_case(result, c), c.modes[:1], warping_modes=wm).work[0]
     per_cell = np.bincount(fine.parent, weights=work, minlength=int(fine.parent.max()) + 1)
     cell = int(np.argmax(per_cell))
     member = result.input.extra.get("member")

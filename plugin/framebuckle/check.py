@@ -3,7 +3,7 @@ stiffening advice, code verdicts and the imperfection; pure data, files are writ
 :func:`write_check`.
 
 Data flow: ``Result`` -> :func:`members.group_members` -> per case and mode
-:func:`participation.element_energies` -> effective lengths, participation,
+:func:`participation.case_energies` -> effective lengths, participation,
 sensitivity -> verdicts -> :class:`CheckReport` (summary dict, CSV rows, cell fields).
 """
 
@@ -22,7 +22,7 @@ from .effective import NEGLIGIBLE, effective_lengths, member_forces
 from .errors import InputError, OutputError
 from .imperfection import imperfect_grid, scale_for
 from .members import Members, group_members
-from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, chord_work, element_energies,
+from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, case_energies, chord_work,
                             participation)
 from .results import CAUTIONS
 from .sensitivity import bending_sensitivity, ranking, repeated
@@ -175,7 +175,7 @@ def _case(ctx, c, entry, rows, fields):
         return ok, (c.name, None, "-", _verdict_short(verdicts), "-", "-", ok)
     fine_axial = result.refined.fine_axial(axial)
     mof = ctx["mof"]
-    en = element_energies(result.fine, c.modes, fine_axial)
+    en = case_energies(result, c)                 # the matrices the solve used (releases, ...)
     chord = chord_work(result.fine, c.modes, fine_axial, mof, members.ends, members.length)
     part = participation(en, chord, mof, members.n, *ctx["limits"])
     sens = bending_sensitivity(en, mof, members.n)
@@ -247,7 +247,7 @@ def _imperfection(result, study, members, fy, mof, fine):
     axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
     fine_axial = result.refined.fine_axial(axial)
     st = _settings(study)
-    en = element_energies(fine, c.modes, fine_axial)
+    en = case_energies(result, c)
     chord = chord_work(fine, c.modes, fine_axial, mof, members.ends, members.length)
     part = participation(en, chord, mof, members.n, float(st.get("twist_limit", TWIST_LIMIT)),
                          float(st.get("sway_limit", SWAY_LIMIT)))

@@ -111,17 +111,26 @@ def fine_moments(refined, moments: np.ndarray) -> np.ndarray:
     return out
 
 
-def moment_geometric_global(frame, moments, local) -> np.ndarray:
-    """Global element matrices (e, 12, 12) of the moment terms; ``local = elements.local_matrices(frame)``."""
+def moment_geometric_condensed(frame, moments, local) -> np.ndarray:
+    """Local element matrices (e, 12, 12) of the moment terms, condensed for end releases like
+    the other element matrices; ``local = elements.local_matrices(frame)``.  The assembly
+    (:func:`moment_geometric_global`) and the energies (:mod:`framebuckle.solvedmatrices`) use it."""
     from .elements import shear_parameters
     from .releases import condense
-    _, _, T, C = local
+    C = local[3]
     L = frame.lengths()
     phi = shear_parameters(frame, L, slice(None))
     Gm = moment_geometric_local(L, moments, *phi)
     Gm[frame.bar] = 0.0
     if C is not None:
         Gm = condense(Gm, C)
+    return Gm
+
+
+def moment_geometric_global(frame, moments, local) -> np.ndarray:
+    """Global element matrices (e, 12, 12) of the moment terms; ``local = elements.local_matrices(frame)``."""
+    T = local[2]
+    Gm = moment_geometric_condensed(frame, moments, local)
     return np.einsum("eji,ejk,ekl->eil", T, Gm, T, optimize=True)
 
 

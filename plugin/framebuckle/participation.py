@@ -1,8 +1,10 @@
 r"""Strain energy of buckling modes per member, and the type of each mode.
 
 For a mode :math:`\phi` of the refined model and each sub-element ``e`` with
-local displacements :math:`u_e = T_e \phi_e` the strain energy splits exactly
-(the local elastic matrix is block-diagonal in these DOF groups) into
+local displacements :math:`u_e = T_e \phi_e` and the element matrices the solve
+assembled (:mod:`framebuckle.solvedmatrices`: end releases condensed, shear,
+end-moment terms, warping DOFs) the strain energy splits exactly (the local
+elastic matrix, condensed or not, is block-diagonal in these DOF groups) into
 
 .. math::
 
@@ -10,8 +12,11 @@ local displacements :math:`u_e = T_e \phi_e` the strain energy splits exactly
 
 with :math:`U_{bend,y}` the bending about local y (x-z plane, ``E Iy``) and
 :math:`U_{bend,z}` about local z (x-y plane, ``E Iz``).  The geometric work
-:math:`W_e = -N_e\, u_e^T G_e u_e` (positive in compression) sums to
-:math:`-\phi^T K_g \phi = \phi^T K \phi / \alpha`.  All of it is computed
+:math:`W_e = -u_e^T K_{g,e} u_e` (:math:`K_{g,e} = N_e G_e` plus the moment
+terms; positive in compression) sums to
+:math:`-\phi^T K_g \phi = \phi^T K \phi / \alpha`.  With the matrices of an
+unreleased element for a released one the sums do not match and members that
+carry nothing (a pinned beam without axial force) take large shares.  All of it is computed
 for all sub-elements and modes at once (einsum over ``(k, e, 12)``).
 
 Mode type (documented thresholds):
@@ -42,8 +47,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .elements import (bar_elastic_local, bar_geometric_local, beam_elastic_local,
-                       beam_geometric_local, element_dofs, local_axes, transformation)
 from .model import Frame
 
 #: twist share of the strain energy from which a mode is "torsional"
@@ -53,11 +56,6 @@ SWAY_LIMIT = 0.5
 #: members listed as carrying the mode: the fewest whose shares add up to this
 ENERGY_CUT = 0.9
 
-_AX = [0, 6]
-_TW = [3, 9]
-_BZ = [1, 5, 7, 11]   # v, theta_z: bending about local z (E Iz)
-_BY = [2, 4, 8, 10]   # w, theta_y: bending about local y (E Iy)
-_TR = [1, 2, 7, 8]    # transverse translations
 
 
 @dataclass(frozen=True)
@@ -80,55 +78,45 @@ class Energies:
         return self.bend_y + self.bend_z
 
 
-#: sub-elements per block when computing energies (bounds memory to ~100 MB)
-CHUNK = 20000
-
-
 def _quad(u, M):
     """0.5 u^T M u for (k, e, n) u and (e, n, n) M -> (k, e)."""
     return 0.5 * np.einsum("kei,eij,kej->ke", u, M, u, optimize=True)
 
 
-def element_energies(fine: Frame, modes: np.ndarray, axial: np.ndarray) -> Energies:
-    """Energies of modes ``(k, n_nodes, 6)`` on the refined frame ``fine``.
+def element_energies(fine, modes: np.ndarray, axial: np.ndarray | None = None,
+                     warping_modes: np.ndarray | None = None) -> Energies:
+    """Energies of modes ``(k, n_nodes, 6)`` per sub-element.
 
-    Vectorised over all sub-elements (in blocks of :data:`CHUNK` to bound memory) and modes.
+    ``fine`` is a :class:`~framebuckle.solvedmatrices.CaseMatrices` (what the solve of the
+    case assembled: releases condensed, shear, end-moment terms, warping DOFs; see
+    :func:`case_energies`), or the refined Frame with its ``axial`` forces (axial terms only,
+    for models solved without moment terms or warping DOFs).  Vectorised over all
+    sub-elements (in blocks of :data:`framebuckle.solvedmatrices.CHUNK`) and modes.
     """
+    from .solvedmatrices import CaseMatrices
+    cm = fine if isinstance(fine, CaseMatrices) else CaseMatrices(fine, np.asarray(axial, float), None, None)
     k = modes.shape[0]
-    phi = modes.reshape(k, -1)
-    dofs = element_dofs(fine)
-    N = np.asarray(axial, float)
-    ne = fine.n_elements
+    phi = cm.mode_vectors(modes, warping_modes)
+    ne = cm.fine.n_elements
     out = {name: np.zeros((k, ne)) for name in ("axial", "twist", "bend_y", "bend_z", "work", "work_trans")}
-    R_all, L_all = local_axes(fine)
-    for lo in range(0, ne, CHUNK):
-        sl = slice(lo, min(ne, lo + CHUNK))
-        ul = np.einsum("eij,kej->kei", transformation(R_all[sl]), phi[:, dofs[sl]], optimize=True)
-        Kl, Gl = _local(fine, sl, L_all[sl])
-        for name, idx in (("axial", _AX), ("twist", _TW), ("bend_y", _BY), ("bend_z", _BZ)):
-            out[name][:, sl] = _quad(ul[:, :, idx], Kl[:, idx][:, :, idx])
-        tw = -2.0 * N[sl] * _quad(ul[:, :, _TW], Gl[:, _TW][:, :, _TW])
-        tr = [i for i in range(12) if i not in _TW]
-        out["work_trans"][:, sl] = -2.0 * N[sl] * _quad(ul[:, :, tr], Gl[:, tr][:, :, tr])
-        out["work"][:, sl] = out["work_trans"][:, sl] + tw
+    for b in cm.blocks():
+        ul = b.local(phi)
+        for name in ("axial", "twist", "bend_y", "bend_z"):
+            idx = b.groups[name]
+            out[name][:, b.sel] = _quad(ul[:, :, idx], b.K[:, idx][:, :, idx])
+        # translational part: every DOF but the twist ones (the moment terms couple twist and
+        # bending, so they count only in the total work)
+        tr = [i for i in range(b.K.shape[1]) if i not in b.groups["twist"]]
+        out["work_trans"][:, b.sel] = -2.0 * _quad(ul[:, :, tr], b.G[:, tr][:, :, tr])
+        out["work"][:, b.sel] = -2.0 * _quad(ul, b.G)
     return Energies(**out)
 
 
-def _local(fine: Frame, sl: slice, L: np.ndarray):
-    """Local elastic and unit geometric matrices of the elements in ``sl``."""
-    n = len(L)
-    Kl = np.zeros((n, 12, 12))
-    Gl = np.zeros((n, 12, 12))
-    bar = fine.bar[sl]
-    b = ~bar
-    f = {name: getattr(fine, name)[sl] for name in ("E", "G", "A", "Iy", "Iz", "J", "Ip")}
-    if b.any():
-        Kl[b] = beam_elastic_local(L[b], f["E"][b], f["G"][b], f["A"][b], f["Iy"][b], f["Iz"][b], f["J"][b])
-        Gl[b] = beam_geometric_local(L[b], f["A"][b], f["Ip"][b])
-    if bar.any():
-        Kl[bar] = bar_elastic_local(L[bar], f["E"][bar], f["A"][bar])
-        Gl[bar] = bar_geometric_local(L[bar])
-    return Kl, Gl
+def case_energies(result, case) -> Energies:
+    """:func:`element_energies` of a solved case with the matrices its solve used."""
+    from .solvedmatrices import for_case
+    c = result.case(case) if not hasattr(case, "modes") else case
+    return element_energies(for_case(result, c), c.modes, warping_modes=getattr(c, "warping_modes", None))
 
 
 def per_member(values: np.ndarray, member_of_fine: np.ndarray, n_members: int) -> np.ndarray:

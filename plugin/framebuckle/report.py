@@ -92,12 +92,11 @@ def verdict_band(alpha, thresholds=(3.0, 10.0, 15.0)) -> str:
 
 def energy_shares(result, case, k: int = 1) -> np.ndarray:
     """Share of mode ``k``'s elastic strain energy in every input element, shape (e_input,)."""
-    from .elements import element_dofs, element_matrices
+    from .participation import element_energies
+    from .solvedmatrices import for_case
     c = result.case(case)
-    fine = result.fine
-    Ke, _, _ = element_matrices(fine)
-    u = c.modes[k - 1].reshape(-1)[element_dofs(fine)]            # (e_fine, 12)
-    energy = 0.5 * np.einsum("ei,eij,ej->e", u, Ke, u)
+    wm = None if c.warping_modes is None else c.warping_modes[k - 1:k]
+    energy = element_energies(for_case(result, c), c.modes[k - 1:k], warping_modes=wm).strain[0]
     per = np.bincount(result.refined.element_map, weights=energy, minlength=result.model.n_elements)
     tot = per.sum()
     return per / tot if tot > 0 else per

@@ -28,6 +28,8 @@ class CaseResult:
     notes: list = field(default_factory=list)
     checks: dict = field(default_factory=dict)   # verify.check_case: residuals, Sturm count, ...
     mesh_check: dict | None = None   # see framebuckle.adequacy
+    moment_terms: bool = False       # the end-moment terms were in the geometric stiffness
+    warping_modes: np.ndarray | None = None   # (k, n_warping_dofs) the modes' warping DOFs, same scale
 
     @property
     def alpha_cr(self) -> float | None:

@@ -13,7 +13,13 @@ pre-multiplying by :math:`\phi^T` gives, with no re-solve,
       = \frac{2 U_{bend,m}}{W}
       = \alpha \, \frac{U_{bend,m}}{U},
 
-with ``W`` the geometric work (:mod:`participation`).  The relative
+with ``W`` the geometric work (:mod:`participation`, all terms the solve
+used).  For released elements :math:`K^{bend}_m` is the bending part of the
+condensed matrix :math:`C^T K C`: the condensation matrix ``C`` is
+:math:`-K_{cc}^{-1} K_{cr}` within each bending plane, unchanged when that
+plane's stiffness is scaled, so :math:`\partial (C^T K C) / \partial s_m =
+C^T K^{bend}_m C` (without shear areas; with them the shear parameter also
+changes with E I and the derivative is that of the bending part alone).  The relative
 sensitivity :math:`(\partial\alpha/\alpha)/\partial s_m` is the member's
 share of the bending energy of the mode: stiffening the members with the
 largest share raises alpha_cr most.  Axial and torsional stiffness are not

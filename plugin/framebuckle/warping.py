@@ -129,6 +129,38 @@ def moment14(L, moments, phi_y=None, phi_z=None) -> np.ndarray:
     return K + np.transpose(K, (0, 2, 1))
 
 
+def local14_condensed(frame, sel, Iw, Jraw):
+    """Local 14 x 14 elastic and unit-force geometric matrices of the warping elements ``sel``
+    after end-release condensation, the condensation matrices ``C`` (None without releases) and
+    the 14 x 14 transformations: the matrices the assembly uses (and the energies of
+    :mod:`framebuckle.solvedmatrices`)."""
+    R, L = local_axes(frame)
+    K14, G14 = local14(frame, sel, L[sel], Iw, Jraw)
+    C = None
+    if frame.release is not None and frame.release[sel].any():
+        from .releases import condensation, condense
+        rel = np.zeros((len(K14), 14), bool)
+        rel[:, :12] = frame.release[sel]
+        r = np.flatnonzero(rel.any(axis=1))
+        C = np.broadcast_to(np.eye(14), K14.shape).copy()
+        C[r] = condensation(K14[r], rel[r], frame.parent[sel][r], frame.source)
+        K14[r] = condense(K14[r], C[r])
+        G14[r] = condense(G14[r], C[r])
+    T14 = np.zeros((len(K14), 14, 14))
+    T14[:, :12, :12] = transformation(R[sel])
+    T14[:, 12, 12] = T14[:, 13, 13] = 1.0
+    return K14, G14, C, T14
+
+
+def moment14_condensed(L, moments, phi, C=None) -> np.ndarray:
+    """:func:`moment14` condensed for end releases with the elements' ``C`` (or None)."""
+    m14 = moment14(L, moments, *phi)
+    if C is not None:
+        from .releases import condense
+        m14 = condense(m14, C)
+    return m14
+
+
 class WarpingAssembler:
     """Assembly of a model in which the elements with ``Iw > 0`` have 14 DOFs.
 
@@ -150,24 +182,9 @@ class WarpingAssembler:
 
         Ke, Ge, T = element_matrices(frame)
         self.Ke_s, self.Ge_s = Ke[self.s], Ge[self.s]
-        R, L = local_axes(frame)
-        Lw = L[self.w]
-        K14, G14 = local14(frame, self.w, Lw, iw[self.w], np.asarray(Jraw, float)[self.w])
-        self.C = None
-        if frame.release is not None and frame.release[self.w].any():
-            from .releases import condensation, condense
-            rel = np.zeros((len(self.w), 14), bool)
-            rel[:, :12] = frame.release[self.w]
-            r = np.flatnonzero(rel.any(axis=1))
-            C = np.broadcast_to(np.eye(14), K14.shape).copy()
-            C[r] = condensation(K14[r], rel[r], frame.parent[self.w][r], frame.source)
-            K14[r] = condense(K14[r], C[r])
-            G14[r] = condense(G14[r], C[r])
-            self.C = C
-        T14 = np.zeros((len(self.w), 14, 14))
-        T14[:, :12, :12] = transformation(R[self.w])
-        T14[:, 12, 12] = T14[:, 13, 13] = 1.0
-        self.T14 = T14
+        K14, G14, self.C, self.T14 = local14_condensed(frame, self.w, iw[self.w],
+                                                       np.asarray(Jraw, float)[self.w])
+        Lw = frame.lengths()[self.w]
         self.K14 = self._glob(K14)
         self.G14 = self._glob(G14)
         self.Lw = Lw
@@ -208,10 +225,7 @@ class WarpingAssembler:
         if self._local is None:
             self._local = local_matrices(self.frame)
         m12 = moment_geometric_global(self.frame, M, self._local)[self.s]
-        m14 = moment14(self.Lw, M[self.w], *self.phi_w)
-        if self.C is not None:
-            from .releases import condense
-            m14 = condense(m14, self.C)
+        m14 = moment14_condensed(self.Lw, M[self.w], self.phi_w, self.C)
         return self._csr(m12, self._glob(m14))
 
     def constraints(self, frame, K, planar, n_input, source) -> Constraints:
