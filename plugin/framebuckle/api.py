@@ -19,6 +19,7 @@ from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
 from .solve import buckling_modes, check_supported, factorize, find_constraints
 from .study import Study, load_study, study_from_dict
+from .twistlength import EQUIVALENT_NOTE
 
 DEFAULT_MODES = 4
 DEFAULT_SUBDIVIDE = 8
@@ -57,8 +58,11 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     moment_terms : ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
         given as cell fields, not for moments recovered from rotations), ``True`` (both) or
         ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
-    warping : ``"equivalent"`` (default) or ``"dof"``: a warping DOF for cells with ``Iw``
-        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.warping`
+    warping : ``"auto"`` (default: the equivalent torsion constant over the length between
+        torsional restraints, the warping DOF where that is not well defined or warping is
+        restrained), ``"equivalent"`` or ``"dof"``: a warping DOF for cells with ``Iw``
+        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.warping` and
+        :mod:`framebuckle.twistlength`
     sturm_worker : run the Sturm counts of large models in a second process beside the next
         case (:class:`framebuckle.verify.SturmWorker`; the command line does).  Off by default:
         the process is started with multiprocessing's "spawn", which imports the calling
@@ -86,8 +90,9 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
                "mesh_check": _adequacy.parse(mesh_check, st, im.source),
                "moment_terms": _moment_setting(moment_terms, st, im.source),
                "parallel_sturm": bool(sturm_worker)}
-    if _warping.parse(warping, st, im.source) == "dof" and im.extra.get("Iw") is not None:
-        options["warping"] = _warping.restrained_points(im, st)
+    wmode = _warping.parse(warping, st, im.source)
+    if im.extra.get("Iw") is not None:
+        options.update(_warping.choose(wmode, im, st))
     res = run(im, k, m, pl, meth, progress=progress, options=options)
     res.timings["read"] = t_read
     return res
@@ -106,6 +111,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     n_in = im.frame.n_nodes
     wrest = options.get("warping")
     warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
+    warnings += list(options.get("warping_warnings", []))
     coarse_cell = _interior_cell(ref, im)
     try:
         if wrest is None:
@@ -217,9 +223,9 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
         fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))
         _adequacy.compare(cases, fine2.cases, m, _mesh_check_orders(im, wrest is not None, geo))
-    notes = list(im.notes) + list(cons.notes)
+    notes = list(im.notes) + list(options.get("warping_notes", [])) + list(cons.notes)
     if wrest is not None:
-        notes = [n for n in notes if not n.startswith("warping constant Iw given: torsion uses")]
+        notes = [n for n in notes if n != EQUIVALENT_NOTE]
     settings = {"modes": k, "subdivide": m, "planar": planar, "eigensolver": method,
                 "mesh_check": check, "warping": "equivalent" if wrest is None else "dof"}
     if options.get("preload"):

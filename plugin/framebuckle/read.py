@@ -24,7 +24,6 @@ from __future__ import annotations
 import contextlib
 import copy
 import io
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -35,6 +34,7 @@ from .errors import InputError
 from .model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
 from .releases import read_releases
 from .study import SUPPORT_KINDS, Study
+from .twistlength import EQUIVALENT_NOTE, twist_lengths
 
 LINE_TYPES = ("line", "line3")
 SECTION_KEYS = ("E", "G", "A", "Iy", "Iz", "J")
@@ -337,9 +337,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             raise InputError(f"field '{study.field_name(name)}' has no value (NaN) for cell "
                              f"{cell_ids[np.flatnonzero(np.isnan(a))[0]]}", source=src)
 
-    # warping: equivalent torsion constant over the input cell's length
-    pts = np.asarray(mesh.points, float)
-    L_el = np.linalg.norm(pts[elements[:, 1]] - pts[elements[:, 0]], axis=1)
+    # warping: the equivalent torsion constant is formed after the frame (framebuckle.twistlength)
     J = props["J"]
     Iw = props["Iw"]
     if Iw is not None:
@@ -347,12 +345,6 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             bad = np.flatnonzero(~np.isfinite(Iw) | (Iw < 0))[0]
             raise InputError(f"field '{study.field_name('Iw')}' must be finite and >= 0; cell "
                              f"{cell_ids[bad]} has {Iw[bad]}", source=src)
-        inv = np.unique(cell_ids, return_inverse=True)[1]
-        Lcell = np.bincount(inv, weights=L_el)[inv]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            J = J + math.pi ** 2 * props["E"] * Iw / (props["G"] * Lcell ** 2)
-        notes.append("warping constant Iw given: torsion uses J + pi^2 E Iw / (G L^2) over each "
-                     "input cell's length (exact for warping-free member ends)")
 
     orientation = cf("orientation", ncomp=3)
 
@@ -382,10 +374,16 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
                        props["Iz"], J, Ip=props["Ip"], orientation=orientation, bar=is_bar,
                        restraint=restraint, parent=cell_ids, source=src, release=release,
                        Asy=_shear_area(props["Asy"]), Asz=_shear_area(props["Asz"]))
+    twist = None
+    if Iw is not None:
+        twist = twist_lengths(frame, Iw, cf("member"))
+        frame = frame.replace(J=twist.J)
+        notes.append(EQUIVALENT_NOTE)
 
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
-    extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"]}
+    extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"],
+             "twist_lengths": twist}
     units = {"force": study.get("units", "force"), "length": study.get("units", "length")}
     return InputModel(frame, cases, mesh, cell_ids, n_cells, sets, units, notes, src, extra)
 

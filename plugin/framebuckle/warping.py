@@ -1,8 +1,11 @@
 r"""Warping torsion (Vlasov): a 7th degree of freedom, the rate of twist, at the nodes of beams with Iw.
 
 Switched on with ``[analysis] warping = "dof"`` (Python ``solve(..., warping="dof")``)
-for models with a cell field ``Iw``; otherwise (and always without ``Iw``) the
-6-DOF code path runs unchanged (``"equivalent"``: ``J + pi^2 E Iw / (G L^2)``).
+for models with a cell field ``Iw``, and by the default ``"auto"`` where the
+equivalent torsion constant ``J + pi^2 E Iw / (G L^2)`` of the 6-DOF path is not
+well defined (:mod:`framebuckle.twistlength`: a member whose ``E Iw`` changes or
+whose twist is released inside it) or warping is restrained somewhere;
+otherwise (and always without ``Iw``) the 6-DOF path runs unchanged.
 
 Element
 -------
@@ -47,17 +50,47 @@ from .elements import (_bend, _put, beam_elastic_local, beam_geometric_local, el
 from .errors import InputError
 from .moments import _GP, _GW, hermite_d2, moment_geometric_global
 from .solve import Constraints, check_supported, find_constraints
+from .twistlength import describe
 
 #: local indices of the twist DOFs of a 14-DOF element: theta1, theta1', theta2, theta2'
 TWIST = np.array([3, 12, 9, 13])
 
 
 def parse(value, study, source) -> str:
-    v = study.get("analysis", "warping", default="equivalent") if value is None else value
-    if v not in ("dof", "equivalent"):
-        raise InputError(f"[analysis] warping must be \"dof\" or \"equivalent\", got {v!r}",
+    v = study.get("analysis", "warping", default="auto") if value is None else value
+    if v not in ("auto", "dof", "equivalent"):
+        raise InputError(f"[analysis] warping must be \"auto\", \"dof\" or \"equivalent\", got {v!r}",
                          source=study.source if value is None else source)
     return v
+
+
+def choose(mode: str, im, study) -> dict:
+    """Options of ``api.run`` for the setting ``mode`` of a model with ``Iw``.
+
+    ``"warping"`` (restrained points) when the warping DOF is to run, plus the note
+    (``"warping_notes"``) or warning (``"warping_warnings"``) that explains the choice.
+    """
+    wr = restrained_points(im, study)
+    if mode == "dof":
+        return {"warping": wr}
+    tl = im.extra.get("twist_lengths")
+    undefined = tl.undefined if tl is not None else ()
+    why = []
+    if undefined:
+        why.append("the equivalent torsion constant J + pi^2 E Iw / (G L^2) is not well defined for "
+                   + describe(undefined))
+    if wr.any():
+        why.append(f"warping is restrained at {int(wr.sum())} point(s) (the equivalent constant "
+                   f"assumes warping-free member ends)")
+    if not why:
+        return {}
+    if mode == "auto":
+        return {"warping": wr, "warping_notes": ["warping = \"auto\": torsion uses the warping DOF "
+                                                 "because " + "; ".join(why)]}
+    return {"warping_warnings": [
+        "warping = \"equivalent\" although " + "; ".join(why) + ": those members use the length of "
+        "each uniform piece between releases and warping restraints are ignored, an approximation; "
+        "warping = \"auto\" or \"dof\" uses the warping DOF"]}
 
 
 def restrained_points(im, study) -> np.ndarray:
