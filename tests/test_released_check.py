@@ -142,9 +142,10 @@ def test_warping_moments_and_releases_in_the_energies():
     en = case_energies(res, c)
     for i, lam in enumerate(c.load_factors):
         assert 2 * en.strain[i].sum() == pytest.approx(lam * en.work[i].sum(), rel=1e-8)
-    # without the moment terms and the warping DOFs the sums do not match (the test's teeth)
+    # without the moment terms and the warping DOFs the sums do not match (the test's teeth:
+    # about 4 % off here, far above the 1e-8 of the consistent energies)
     ax = element_energies(res.fine, c.modes, for_case(res, c).axial)
-    assert abs(2 * ax.strain[0].sum() / (c.load_factors[0] * ax.work[0].sum()) - 1) > 0.05
+    assert abs(2 * ax.strain[0].sum() / (c.load_factors[0] * ax.work[0].sum()) - 1) > 0.02
     rep = run_check(res)
     for m in rep.summary["cases"][0]["modes"]:
         s = [x["energy_share"] for x in _rows(rep, m["mode"])]
