@@ -189,3 +189,21 @@ def test_repeated_load_factor_shares_do_not_depend_on_the_basis():
     for o in out[1:]:
         assert o == pytest.approx(out[0], abs=1e-12)
     assert out[0][0] == pytest.approx(out[0][1]) and out[0].max(axis=1) == pytest.approx(1.0)
+
+
+def test_report_ranks_members_by_critical_factor():
+    # leaning column bowing first (mode 1), cantilever in the sway mode 2: the report lists the
+    # leaning column first although the cantilever has the larger L_cr / L
+    from framebuckle import report
+    res = fb.solve(leaning_portal(I2=8e-7, P2=5000.0), subdivide=8, modes=2, planar=True)
+    chk = run_check(res)
+    d = design(chk)
+    assert d[0]["L_cr_ratio"] > d[1]["L_cr_ratio"] and d[1]["load_factor"] < d[0]["load_factor"]
+    html = report.build_html(res, {}, [], chk)
+    table = html[html.index('<table class="design">'):]
+    table = table[:table.index("</table>")]
+    first, second = table.index('<td class="num">1</td><td class="num">1</td>'), \
+        table.index('<td class="num">2</td><td class="num">0</td>')
+    assert first < second and "1 (member)" in table and "2 (sway)" in table
+    title, png, caption = report._member_plot(res, chk)
+    assert title == "Members by critical factor" and png[:4] == b"\x89PNG" and "lowest first" in caption

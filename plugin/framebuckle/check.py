@@ -18,7 +18,8 @@ from pathlib import Path
 import numpy as np
 
 from . import codecheck
-from .effective import MEMBER_SHARE, NEGLIGIBLE, design_lengths, effective_lengths, member_forces
+from .effective import (MEMBER_SHARE, NEGLIGIBLE, design_lengths, design_summary, effective_lengths,
+                        member_forces)
 from .errors import InputError, OutputError
 from .imperfection import imperfect_grid, scale_for
 from .members import Members, group_members
@@ -214,7 +215,7 @@ def _case(ctx, c, entry, rows, fields):
     rows[start:start] = _design_rows(c.name, design, part, sens, ranks, members, ctx["cells"])
     _put_fields(fields, ctx["suffix"](c.name), im.cell_ids, members, design, part.share[0], sens[0],
                 im.n_cells)
-    entry["design"] = _design_summary(design, members, ctx["member_share"])
+    entry["design"] = design_summary(design, members.label, ctx["member_share"])
     if entry["design"]["not_governed"]:
         ng = entry["design"]["not_governed"]
         entry["notes"].append(f"{len(ng)} compressed member(s) take part in none of the {len(modes_out)} computed "
@@ -308,26 +309,6 @@ def _design_rows(case, design, part, sens, ranks, members, cells) -> list:
                  design_rank=int(design.rank[m]))
         out.append(r)
     return out
-
-
-def _design_summary(design, members, threshold) -> dict:
-    """Members by what governs them: lowest member critical factor first."""
-    e = design.eff
-    ranked = np.flatnonzero(design.rank > 0)
-    ranked = ranked[np.argsort(design.rank[ranked])]
-    return {
-        "member_share": threshold,
-        "rule": "each compressed member's N_cr = alpha_k |N_Ed| from the lowest mode k in which its strain-energy "
-                "share is at least member_share times the mode's largest member share; ranked by alpha_k "
-                "(= N_cr / |N_Ed|, the member's critical factor), lowest first",
-        "members": [{"member": int(members.label[m]), "rank": int(design.rank[m]),
-                     "governing_mode": int(design.mode[m]) + 1, "alpha": float(design.alpha[m]),
-                     "relative_share": float(design.relative_share[m]), "status": str(design.status[m]),
-                     "N_Ed": float(e.N_Ed[m]), "N_cr": _num(e.N_cr[m]), "axis": str(e.axis[m]),
-                     "L_cr": _num(e.L_cr[m]), "L_cr_ratio": _num(e.ratio[m]),
-                     "L_cr_y": _num(e.L_cr_y[m]), "L_cr_z": _num(e.L_cr_z[m])} for m in ranked],
-        "not_governed": [int(members.label[m]) for m in np.flatnonzero(design.status == "not_governed")],
-    }
 
 
 def _put_fields(fields, suffix, cell_ids, members, design, share, sens, n_cells):

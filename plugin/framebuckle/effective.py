@@ -190,9 +190,34 @@ def design_lengths(per_mode: list, share: np.ndarray, load_factors, member_share
     rshare = np.where(found, rel[k, cols], np.nan)
     # bars never bend in the analysis: one that takes part in no mode stays "bar" (check it pin-ended)
     status = np.where(candidate & ~found & (base.status != "bar"), "not_governed", base.status)
-    # ties (identical members) keep member order: compare to 9 significant digits
-    order = np.lexsort((cols, -np.round(np.nan_to_num(rshare), 9), np.where(found, alpha, np.inf)))
+    # ties (identical members: shares equal up to the eigensolver's tolerance) keep member order
+    order = np.lexsort((cols, -np.round(np.nan_to_num(rshare), 6), np.where(found, alpha, np.inf)))
     order = order[found[order]]
     rank = np.zeros(m, np.int64)
     rank[order] = np.arange(1, len(order) + 1)
     return DesignLengths(status, mode, alpha, rshare, eff, rank)
+
+
+def design_summary(design: DesignLengths, labels, threshold: float) -> dict:
+    """JSON-ready design table: members by what governs them, lowest critical factor first."""
+    e = design.eff
+    ranked = np.flatnonzero(design.rank > 0)
+    ranked = ranked[np.argsort(design.rank[ranked])]
+    return {
+        "member_share": threshold,
+        "rule": "each compressed member's N_cr = alpha_k |N_Ed| from the lowest mode k in which its strain-energy "
+                "share is at least member_share times the mode's largest member share; ranked by alpha_k "
+                "(= N_cr / |N_Ed|, the member's critical factor), lowest first",
+        "members": [{"member": int(labels[m]), "rank": int(design.rank[m]),
+                     "governing_mode": int(design.mode[m]) + 1, "alpha": float(design.alpha[m]),
+                     "relative_share": float(design.relative_share[m]), "status": str(design.status[m]),
+                     "N_Ed": float(e.N_Ed[m]), "N_cr": _finite(e.N_cr[m]), "axis": str(e.axis[m]),
+                     "L_cr": _finite(e.L_cr[m]), "L_cr_ratio": _finite(e.ratio[m]),
+                     "L_cr_y": _finite(e.L_cr_y[m]), "L_cr_z": _finite(e.L_cr_z[m])} for m in ranked],
+        "not_governed": [int(labels[m]) for m in np.flatnonzero(design.status == "not_governed")],
+    }
+
+
+def _finite(x):
+    x = float(x)
+    return x if np.isfinite(x) else None
