@@ -61,6 +61,8 @@ def sha(path: Path) -> str:
 
 
 def run_cli(*args, cwd=None, env=None):
-    """Run ``python -m framebuckle solve ...``; return the CompletedProcess."""
-    return subprocess.run([sys.executable, "-m", "framebuckle", "solve", *map(str, args)],
+    """Run ``python -m framebuckle solve ...`` (or the command given first, e.g. ``"check"``);
+    return the CompletedProcess."""
+    cmd = [] if args and str(args[0]) in ("solve", "check", "report") else ["solve"]
+    return subprocess.run([sys.executable, "-m", "framebuckle", *cmd, *map(str, args)],
                           capture_output=True, text=True, cwd=cwd, env=env, timeout=300)

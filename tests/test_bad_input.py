@@ -305,6 +305,12 @@ def study_missing_key_field(t):
     return [m, "--study", s], ["study.toml", "material_id", "no cell field"], [m, s]
 
 
+def checks_member_share_out_of_range(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[checks]\nmember_share = 1.5\n")
+    return ["check", m, "--study", s], ["study.toml", "[checks] member_share", "(0, 1]", "1.5"], [m, s]
+
+
 def out_parent_is_file(t):
     m = _vtu(t, portal())
     f = t / "afile"
@@ -327,7 +333,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              no_support, unsupported_part, coincident_unjoined, mechanism, bar_chain_mechanism,
              study_unknown_key, study_unknown_table, study_wrong_type, study_bad_value,
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
-             study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file]
+             study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
+             checks_member_share_out_of_range]
 
 
 def test_catalogue_is_large_enough():

@@ -53,7 +53,10 @@ def test_check_passes_and_files_read_back(portal_file, tmp_path):
     assert s["cautions"] and s["check"]["imperfection"]["case"] == "gravity"
     with open(tmp_path / "portal.members.csv", newline="") as fh:
         rows = list(csv.DictReader(fh))
-    assert len(rows) == 2 * 2 * 3                          # cases x modes x members
+    assert len(rows) == 2 * (2 + 1) * 3                    # cases x (modes + design) x members
+    assert sum(r["row_type"] == "design" for r in rows) == 2 * 3
+    assert all((r["mode"] == "") == (r["row_type"] == "design") != (r["governing_mode"] == "")
+               for r in rows if r["status"] == "compression")
     g1 = [r for r in rows if r["case"] == "gravity" and r["mode"] == "1"]
     assert {r["status"] for r in g1} == {"compression", "negligible"}
     col = [r for r in g1 if r["status"] == "compression"][0]
@@ -66,13 +69,17 @@ def test_check_passes_and_files_read_back(portal_file, tmp_path):
     assert sum(float(r["energy_share"]) for r in g1) == pytest.approx(1.0, abs=1e-8)
     beam = [r for r in g1 if r["status"] == "negligible"][0]
     assert beam["N_cr"] == "" and beam["L_cr"] == ""
-    # per-member cell fields on the input mesh
+    # per-member cell fields on the input mesh: the design values (governing mode of each member)
     v = pv.read(tmp_path / "portal.modes.vtu")
     ratio = np.asarray(v.cell_data["L_cr_ratio_y.gravity"])
+    gmode = np.asarray(v.cell_data["governing_mode.gravity"])
     member = np.asarray(v.cell_data["member"])
-    assert len(ratio) == 5 and np.isnan(ratio[2])          # the beam (cell 2) has no compression
-    assert ratio[0] == pytest.approx(float(col["L_cr_ratio_y"]), rel=1e-6) or \
-        ratio[3] == pytest.approx(float(col["L_cr_ratio_y"]), rel=1e-6)
+    assert len(ratio) == 5 and np.isnan(ratio[2]) and np.isnan(gmode[2])   # the beam: no compression
+    design = {int(r["member"]): r for r in rows if r["case"] == "gravity" and r["row_type"] == "design"}
+    for cell in (0, 1, 3, 4):
+        d = design[int(member[cell])]
+        assert ratio[cell] == pytest.approx(float(d["L_cr_ratio_y"]), rel=1e-6)
+        assert gmode[cell] == int(d["governing_mode"])
     assert member[0] == member[1] and member[3] == member[4] and len(set(member)) == 3
     # imperfect geometry: points moved by the scaled mode
     imp = pv.read(tmp_path / "portal.imperfect.vtu")
@@ -141,7 +148,7 @@ def test_check_on_samples(name, study, tmp_path):
     with open(paths["members"], newline="") as fh:
         rows = list(csv.DictReader(fh))
     n_cases = len(res.cases)
-    assert len(rows) == n_cases * 2 * rep.members.n
+    assert len(rows) == n_cases * (2 + 1) * rep.members.n            # modes + design rows
     for case in res.cases:
         for mode in ("1", "2"):
             share = [float(r["energy_share"]) for r in rows if r["case"] == case.name and r["mode"] == mode]

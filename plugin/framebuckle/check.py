@@ -18,7 +18,8 @@ from pathlib import Path
 import numpy as np
 
 from . import codecheck
-from .effective import NEGLIGIBLE, effective_lengths, member_forces
+from .effective import (MEMBER_SHARE, NEGLIGIBLE, design_lengths, design_summary, effective_lengths,
+                        member_forces)
 from .errors import InputError, OutputError
 from .imperfection import imperfect_grid, scale_for
 from .members import Members, group_members
@@ -28,16 +29,22 @@ from .results import CAUTIONS
 from .sensitivity import bending_sensitivity, ranking, repeated
 from .study import Study
 
-CSV_COLUMNS = ("case", "mode", "load_factor", "mode_type", "member", "cells", "length", "status",
-               "N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "axis", "L_cr",
-               "L_cr_ratio", "slenderness", "energy_share", "sensitivity", "sensitivity_rank")
+#: ``row_type`` "design": a member's design values, from its governing mode (``governing_mode``,
+#: ``mode`` empty, ``design_rank`` 1 = lowest member critical factor); "mode": one mode's values
+#: (``mode`` set, ``governing_mode`` empty), for inspection only
+CSV_COLUMNS = ("case", "row_type", "mode", "governing_mode", "load_factor", "mode_type", "member", "cells",
+               "length", "status", "N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "axis",
+               "L_cr", "L_cr_ratio", "slenderness", "energy_share", "relative_share", "sensitivity",
+               "sensitivity_rank", "design_rank")
 
 #: load factors closer than this (relative) are a cluster: sensitivities marked indicative
 CLOSE = 0.01
 
-#: cell fields written on the input mesh (mode 1 of every case)
+#: cell fields written on the input mesh per case: the design values of every member (from its
+#: governing mode, ``governing_mode`` 1-based, NaN where none; ``member_alpha`` = N_cr / |N_Ed|),
+#: and ``energy_share`` / ``sensitivity`` of mode 1 (they explain alpha_cr)
 CELL_FIELDS = ("N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "slenderness",
-               "energy_share", "sensitivity")
+               "governing_mode", "member_alpha", "design_rank", "energy_share", "sensitivity")
 
 
 @dataclass
@@ -107,7 +114,7 @@ def _validate_settings(st: dict, source: str):
                 "aisc_alpha", "aisc_max_B2", "fy"):
         if key in st and not (math.isfinite(st[key]) and st[key] > 0):
             raise InputError(f"[checks] {key} must be a positive number, got {st[key]}", source=source)
-    for key in ("twist_limit", "sway_limit", "energy_cut", "negligible_compression"):
+    for key in ("twist_limit", "sway_limit", "energy_cut", "negligible_compression", "member_share"):
         if key in st and not 0 < st[key] <= 1:
             raise InputError(f"[checks] {key} must be in (0, 1], got {st[key]}", source=source)
 
@@ -126,6 +133,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
         "result": result, "members": members, "fy": _fy(result, st), "storeys": storeys, "gate": gate,
         "mof": members.of_element[result.refined.element_map],      # member of every fine element
         "neg": float(st.get("negligible_compression", NEGLIGIBLE)),
+        "member_share": float(st.get("member_share", MEMBER_SHARE)),
         "limits": (float(st.get("twist_limit", TWIST_LIMIT)), float(st.get("sway_limit", SWAY_LIMIT)),
                    float(st.get("energy_cut", ENERGY_CUT))),
         "cells": _cells_text(members, im.cell_ids), "settings": st,
@@ -150,7 +158,8 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
                            f"{codecheck.EN_CLAUSE_FIRST_ORDER} ({st.get('analysis', 'elastic')} analysis)"),
         "members": {"count": members.n, "from": "cell field 'member'" if members.explicit else
                     "automatic (collinear chains of equal section through free points)"},
-        "indicators": {"twist_limit": tl, "sway_limit": sl, "energy_cut": cut, "negligible_compression": ctx["neg"]},
+        "indicators": {"twist_limit": tl, "sway_limit": sl, "energy_cut": cut, "negligible_compression": ctx["neg"],
+                       "member_share": ctx["member_share"]},
         "imperfection": imp_info,
     }
     summary["cautions"] = list(CAUTIONS)
@@ -170,8 +179,9 @@ def _case(ctx, c, entry, rows, fields):
         N, _ = member_forces(frame, members, axial)
         for m in range(members.n):
             rows.append(_row(c.name, None, None, "", members, m, ctx["cells"], N[m],
-                             "tension" if N[m] > 0 else "negligible"))
-        entry.update({"modes": [], "governing_members": [], "stiffen_first": []})
+                             "tension" if N[m] > 0 else "negligible", row_type="design"))
+        entry.update({"modes": [], "governing_members": [], "stiffen_first": [],
+                      "design": {"member_share": ctx["member_share"], "members": [], "not_governed": []}})
         return ok, (c.name, None, "-", _verdict_short(verdicts), "-", "-", ok)
     fine_axial = result.refined.fine_axial(axial)
     mof = ctx["mof"]
@@ -180,13 +190,15 @@ def _case(ctx, c, entry, rows, fields):
     part = participation(en, chord, mof, members.n, *ctx["limits"])
     sens = bending_sensitivity(en, mof, members.n)
     close = repeated(c.load_factors, CLOSE)
-    modes_out = []
+    modes_out, effs, ranks, start = [], [], [], len(rows)
     for i, lam in enumerate(float(x) for x in c.load_factors):
         eff = effective_lengths(frame, members, axial, lam, part.bend_y[i], part.bend_z[i], ctx["fy"],
                                 ctx["neg"], result.constraints.planar_axis)
         rank = ranking(sens[i])
         rk = np.empty(members.n, np.int64)
         rk[rank] = np.arange(1, members.n + 1)
+        effs.append(eff)
+        ranks.append(rk)
         for m in range(members.n):
             rows.append(_row(c.name, i + 1, lam, part.kinds[i], members, m, ctx["cells"], eff.N_Ed[m],
                              eff.status[m], eff, part.share[i, m], sens[i, m], rk[m]))
@@ -199,9 +211,17 @@ def _case(ctx, c, entry, rows, fields):
             "stiffen_first": [{"member": int(members.label[j]), "d_alpha_d_scale": float(sens[i, j]),
                                "relative": float(sens[i, j] / lam)} for j in rank[:5] if sens[i, j] > 1e-9 * lam],
         })
-        if i == 0:
-            _put_fields(fields, ctx["suffix"](c.name), im.cell_ids, members, eff, part.share[0], sens[0],
-                        im.n_cells)
+    design = design_lengths(effs, part.share, c.load_factors, ctx["member_share"])
+    rows[start:start] = _design_rows(c.name, design, part, sens, ranks, members, ctx["cells"])
+    _put_fields(fields, ctx["suffix"](c.name), im.cell_ids, members, design, part.share[0], sens[0],
+                im.n_cells)
+    entry["design"] = design_summary(design, members.label, ctx["member_share"])
+    if entry["design"]["not_governed"]:
+        ng = entry["design"]["not_governed"]
+        entry["notes"].append(f"{len(ng)} compressed member(s) take part in none of the {len(modes_out)} computed "
+                              f"mode(s) (energy share below {ctx['member_share']:g} of the mode's largest): "
+                              f"{', '.join(str(x) for x in ng[:10])}{' ...' if len(ng) > 10 else ''}; their "
+                              f"effective lengths are not known: ask for more modes (--modes)")
     sway = [m for m in modes_out if m["type"] == "sway"]
     first = modes_out[0]
     entry.update({"modes": modes_out, "alpha_cr_sway": sway[0]["load_factor"] if sway else None,
@@ -272,9 +292,31 @@ def _imperfection(result, study, members, fy, mof, fine):
     return info, (ci, mi, info["scale"])
 
 
-def _put_fields(fields, suffix, cell_ids, members, eff, share, sens, n_cells):
+def _design_rows(case, design, part, sens, ranks, members, cells) -> list:
+    """One ``row_type`` "design" row per member, governed members by rank first, then member order."""
+    out = []
+    governed = np.flatnonzero(design.rank > 0)
+    order = np.r_[governed[np.argsort(design.rank[governed])], np.flatnonzero(design.rank == 0)]
+    for m in order:
+        k = int(design.mode[m])
+        if k < 0:
+            out.append(_row(case, None, None, "", members, m, cells, design.eff.N_Ed[m], design.status[m],
+                            row_type="design"))
+            continue
+        r = _row(case, None, float(design.alpha[m]), part.kinds[k], members, m, cells, design.eff.N_Ed[m],
+                 design.status[m], design.eff, part.share[k, m], sens[k, m], ranks[k][m], row_type="design")
+        r.update(governing_mode=k + 1, relative_share=_num(design.relative_share[m]),
+                 design_rank=int(design.rank[m]))
+        out.append(r)
+    return out
+
+
+def _put_fields(fields, suffix, cell_ids, members, design, share, sens, n_cells):
+    eff = design.eff
     vals = {"N_Ed": eff.N_Ed, "N_cr": eff.N_cr, "L_cr_y": eff.L_cr_y, "L_cr_z": eff.L_cr_z,
             "L_cr_ratio_y": eff.ratio_y, "L_cr_ratio_z": eff.ratio_z, "slenderness": eff.slenderness,
+            "governing_mode": np.where(design.mode >= 0, design.mode + 1.0, np.nan),
+            "member_alpha": design.alpha, "design_rank": np.where(design.rank > 0, design.rank, np.nan),
             "energy_share": share, "sensitivity": sens}
     for name in CELL_FIELDS:
         a = np.full(n_cells, np.nan)
@@ -288,9 +330,10 @@ def _cells_text(members, cell_ids) -> list:
     return [" ".join(str(x) for x in np.unique(cell_ids[g])) for g in np.split(order, split)]
 
 
-def _row(case, mode, lam, kind, members, m, cells, N, status, eff=None, share=None, sens=None, rank=None):
+def _row(case, mode, lam, kind, members, m, cells, N, status, eff=None, share=None, sens=None, rank=None,
+         row_type="mode"):
     r = {k: None for k in CSV_COLUMNS}
-    r.update(case=case, mode=mode, load_factor=lam, mode_type=kind, member=int(members.label[m]),
+    r.update(case=case, row_type=row_type, mode=mode, load_factor=lam, mode_type=kind, member=int(members.label[m]),
              cells=cells[m], length=float(members.length[m]), status=str(status), N_Ed=float(N))
     if eff is not None:
         r.update(N_cr=_num(eff.N_cr[m]), L_cr_y=_num(eff.L_cr_y[m]), L_cr_z=_num(eff.L_cr_z[m]),

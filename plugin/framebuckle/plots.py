@@ -5,8 +5,8 @@
   analysis allowed at alpha_cr >= 10, plastic at >= 15; 5.2.2(5): below 3 a
   second-order analysis is needed, between 3 and 10 sway effects may be
   amplified by 1 / (1 - 1/alpha_cr)).
-* :func:`member_plot` - one value per member (effective-length ratio, axial
-  force, energy share ...) for one case, largest first.
+* :func:`member_plot` - one value per member (critical factor, axial force,
+  energy share ...) for one case, largest first or (``ascending``) smallest first.
 
 Colours are from the Okabe-Ito colour-blind-safe palette; every band is also
 labelled in text, so the plot reads in grey print.
@@ -98,19 +98,21 @@ def alpha_plot(names, alphas, notes=None, thresholds=THRESHOLDS):
 
 
 def member_plot(labels, values, xlabel: str, title: str, top: int = 25, reference: float | None = None,
-                reference_label: str = ""):
-    """Horizontal bars of one value per member, the ``top`` largest first."""
+                reference_label: str = "", ascending: bool = False, notes=None):
+    """Horizontal bars of one value per member, the ``top`` largest (``ascending``: smallest)
+    first; ``notes`` (one text per member) is written after each bar's value."""
     labels = [str(x) for x in labels]
     values = np.asarray(values, float)
+    notes = [""] * len(labels) if notes is None else [str(x) for x in notes]
     ok = np.isfinite(values)
-    idx = np.flatnonzero(ok)[np.argsort(-values[ok], kind="stable")][:top]
+    idx = np.flatnonzero(ok)[np.argsort(values[ok] if ascending else -values[ok], kind="stable")][:top]
     n = len(idx)
     fig = _figure(7.0, 1.3 + 0.26 * max(n, 1))
     ax = fig.add_subplot()
     y = np.arange(n)[::-1]
     ax.barh(y, values[idx], color="#0072B2", edgecolor="black", linewidth=0.4, height=0.65)
-    for yi, v in zip(y, values[idx]):
-        ax.text(v, yi, f" {v:.3g}", va="center", fontsize=7)
+    for yi, v, i in zip(y, values[idx], idx):
+        ax.text(v, yi, f" {v:.3g}" + (f"  {notes[i]}" if notes[i] else ""), va="center", fontsize=7)
     if reference is not None:
         ax.axvline(reference, color="black", linestyle=(0, (4, 3)), linewidth=0.9)
         if reference_label:
@@ -119,9 +121,9 @@ def member_plot(labels, values, xlabel: str, title: str, top: int = 25, referenc
     ax.set_ylim(-0.7, max(n, 1) - 0.3)
     ax.set_xlabel(xlabel)
     if values.size and ok.sum() > n:
-        title += f" ({n} largest of {int(ok.sum())})"
+        title += f" ({n} {'smallest' if ascending else 'largest'} of {int(ok.sum())})"
     ax.set_title(title, fontsize=9)
     ax.grid(axis="x", color="#dddddd", linewidth=0.5)
     ax.set_axisbelow(True)
-    ax.margins(x=0.12)
+    ax.margins(x=0.35 if any(notes) else 0.12)
     return fig

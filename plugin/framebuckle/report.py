@@ -4,16 +4,18 @@ Everything is in the one file: pictures and plots are PNG embedded as base64
 ``data:`` URIs, the style sheet is inline, there is no script and no link to
 the network.  Sections: job summary, cautions, model statistics, load factors
 per case (with the verdict band of EN 1993-1-1:2005 5.2.1(3) / 5.2.2), the
-governing members of each case's first mode, the picture of each case's first
-mode, the plots, notes, cautions again.  The page is at most ~60 characters
+governing members of each case, the picture of each case's first mode, the plots,
+notes, cautions again.  The page is at most ~60 characters
 wide per column of text on a laptop and prints to A4 (``@media print``: page
 size, margins, no picture split across pages).
 
 Governing members are the input cells that carry the largest share of the
 elastic strain energy ``u_e^T K_e u_e / 2`` of the first mode (summed over
 the sub-elements of each cell).  When the engineering check
-(:mod:`framebuckle.check`) is installed, its members, verdicts and
-effective-length ratios are used instead.
+(:mod:`framebuckle.check`) is installed, its members and verdicts are used instead, and members
+are ranked by what governs them: the member critical factor N_cr / |N_Ed| from each member's
+governing mode (the lowest mode in which it takes part), lowest first; not by the largest
+L_cr / L, which a lightly loaded member reaches in a mode it takes no part in.
 """
 
 from __future__ import annotations
@@ -30,6 +32,8 @@ from .results import CAUTIONS
 
 #: governing members listed per case
 N_GOVERNING = 5
+#: members of the design table listed per case (engineering check)
+N_DESIGN = 10
 
 CSS = """
 :root { color-scheme: light; }
@@ -196,10 +200,7 @@ def build_html(result, pictures: dict, plots: list, check=None, when: str | None
 
     w('<h2 id="governing">Governing members</h2>')
     if check:
-        w("<p>Members carrying most of each case's first-mode strain energy (from the engineering check).</p><ul>")
-        for row in check.table:
-            w(f"<li><b>{_e(row[0])}</b>: members {_e(row[4])}; stiffen first: {_e(row[5])}</li>")
-        w("</ul>")
+        _design_table(w, check)
     else:
         w(f"<p>Input cells carrying the largest share of the elastic strain energy of each case's first "
           f"mode (the members that take part in the buckling), {N_GOVERNING} per case. Cell numbers "
@@ -246,6 +247,40 @@ def build_html(result, pictures: dict, plots: list, check=None, when: str | None
     _cautions(w)
     w("</body></html>\n")
     return "\n".join(out)
+
+
+def _design_table(w, check):
+    """Members ranked by their critical factor N_cr / |N_Ed| (governing mode of each member)."""
+    cases = check.summary["cases"]
+    share = next((c["design"]["member_share"] for c in cases if "design" in c), None)
+    w("<p>Per case, the compressed members ranked by what governs them: the member critical factor "
+      "alpha_m = N_cr / |N_Ed| from the member's governing mode, the lowest computed mode in which it "
+      "takes part (its strain-energy share at least "
+      f"{_fmt(share, 3)} of the mode's largest member share), lowest first. N_cr and L_cr of a member come "
+      f"from its own governing mode, not from mode 1. {N_DESIGN} members per case; all of them are in "
+      "the members CSV (rows with <code>row_type</code> = design).</p>")
+    w('<table class="design"><thead><tr><th>case</th><th>rank</th><th>member</th><th>governing mode</th>'
+      "<th>alpha_m = N_cr / |N_Ed|</th><th>N_Ed</th><th>N_cr</th><th>L_cr / L (axis)</th>"
+      "<th>relative share</th></tr></thead><tbody>")
+    types = {}
+    for c in cases:
+        types[c["name"]] = {m["mode"]: m["type"] for m in c.get("modes", [])}
+        d = c.get("design") or {"members": [], "not_governed": []}
+        if not d["members"]:
+            w(f"<tr><td>{_e(c['name'])}</td><td colspan=\"8\">no member has a governing mode</td></tr>")
+        for x in d["members"][:N_DESIGN]:
+            kind = types[c["name"]].get(x["governing_mode"], "")
+            ratio = "-" if x["L_cr_ratio"] is None else f"{x['L_cr_ratio']:.4g} ({x['axis']})"
+            w(f"<tr><td>{_e(c['name'])}</td><td class=\"num\">{x['rank']}</td><td class=\"num\">{x['member']}</td>"
+              f"<td>{x['governing_mode']} ({_e(kind)})</td><td class=\"num\">{_fmt(x['alpha'])}</td>"
+              f"<td class=\"num\">{_fmt(x['N_Ed'], 6)}</td><td class=\"num\">{_fmt(x['N_cr'])}</td>"
+              f"<td class=\"num\">{_e(ratio)}</td><td class=\"num\">{x['relative_share']:.3g}</td></tr>")
+        if d["not_governed"]:
+            ng = d["not_governed"]
+            w(f"<tr><td>{_e(c['name'])}</td><td colspan=\"8\">not governed by any mode found ({len(ng)} "
+              f"member(s): {_e(', '.join(str(v) for v in ng[:12]))}{' ...' if len(ng) > 12 else ''}): "
+              f"ask for more modes</td></tr>")
+    w("</tbody></table>")
 
 
 def _cautions(w):
@@ -305,23 +340,29 @@ def _png(img: np.ndarray) -> bytes:
 
 
 def _member_plot(result, check):
-    """Effective-length ratio per member (engineering check) or first-mode energy share per cell."""
+    """Member critical factor per member, lowest first (engineering check), or first-mode energy
+    share per cell."""
     from . import plots as pl
     found = [c for c in result.cases if c.alpha_cr is not None]
     if not found:
         return None
     gov = min(found, key=lambda c: c.alpha_cr)
     if check:
-        rows = [r for r in check.rows if r.get("case") == gov.name and r.get("mode") == 1
-                and r.get("L_cr_ratio") is not None]
-        if rows:
-            fig = pl.member_plot([f"member {r['member']}" for r in rows], [r["L_cr_ratio"] for r in rows],
-                                 "L_cr / L (effective-length ratio)",
-                                 f"effective-length ratio per member, case {gov.name}, mode 1",
-                                 reference=1.0, reference_label="L_cr = L")
-            return ("Effective-length ratio per member", pl.png_bytes(fig),
-                    f"L_cr / L of the compressed members for the governing case {gov.name} "
-                    f"(alpha_cr = {gov.alpha_cr:.4g}).")
+        entry = next(c for c in check.summary["cases"] if c["name"] == gov.name)
+        ms = (entry.get("design") or {}).get("members", [])
+        if ms:
+            fig = pl.member_plot(
+                [f"member {x['member']} (mode {x['governing_mode']})" for x in ms], [x["alpha"] for x in ms],
+                "alpha_m = N_cr / |N_Ed| (member critical factor, governing mode of each member)",
+                f"members by what governs them, case {gov.name}, lowest first",
+                reference=gov.alpha_cr, reference_label="alpha_cr", ascending=True,
+                notes=["" if x["L_cr_ratio"] is None else f"L_cr/L {x['L_cr_ratio']:.3g} ({x['axis']})"
+                       for x in ms])
+            return ("Members by critical factor", pl.png_bytes(fig),
+                    f"Compressed members of the governing case {gov.name} (alpha_cr = {gov.alpha_cr:.4g}) "
+                    f"ranked by their critical factor N_cr / |N_Ed|, from each member's own governing mode "
+                    f"(the lowest mode in which it takes part), lowest first; L_cr / L and the axis beside "
+                    f"each bar.")
     share = energy_shares(result, gov.name)
     fig = pl.member_plot([f"cell {int(i)}" for i in result.input.cell_ids], 100 * share,
                          "share of the first mode's strain energy (%)",
