@@ -69,11 +69,11 @@ def cruciform(L=1.0, b=0.1, t=0.01, N=-1000.0, ncell=2):
 
 
 def sway_frame(storeys=3, bays=2, h=3.5, b=6.0, Ic=2.0e-5, Ib=4.0e-5, P=-2.0e5, brace_A=None,
-               base=FIXED, ncol=1, beam_I=None):
+               base=FIXED, ncol=1, beam_I=None, A=1e-2):
     """Multi-storey, multi-bay plane frame in the X-Z plane, rigid joints, bases ``base``.
 
     Every column carries ``P`` per storey above it (gravity only: beams and braces carry no axial
-    force). ``brace_A``: X-bracing bars (area) in the first bay of every storey, making the frame
+    force); ``A``: area of columns and beams. ``brace_A``: X-bracing bars (area) in the first bay of every storey, making the frame
     braced. ``ncol``: cells per column (the column is still one member). Cells: columns storey by
     storey (left to right, ``ncol`` cells each), then beams, then braces.
     """
@@ -83,7 +83,7 @@ def sway_frame(storeys=3, bays=2, h=3.5, b=6.0, Ic=2.0e-5, Ib=4.0e-5, P=-2.0e5, 
         for i, x in enumerate(xs):
             idx[i, s] = len(pts)
             pts.append([x, 0.0, s * h])
-    cells, N, I, A, bar = [], [], [], [], []
+    cells, N, I, area, bar = [], [], [], [], []
     for s in range(1, storeys + 1):
         for i in range(bays + 1):
             lo, hi = idx[i, s - 1], idx[i, s]
@@ -96,14 +96,14 @@ def sway_frame(storeys=3, bays=2, h=3.5, b=6.0, Ic=2.0e-5, Ib=4.0e-5, P=-2.0e5, 
                 cells.append([a, c])
                 N.append(P * (storeys - s + 1))
                 I.append(Ic)
-                A.append(1e-2)
+                area.append(A)
                 bar.append(0)
     for s in range(1, storeys + 1):
         for i in range(bays):
             cells.append([idx[i, s], idx[i + 1, s]])
             N.append(0.0)
             I.append(Ib if beam_I is None else beam_I)
-            A.append(1e-2)
+            area.append(A)
             bar.append(0)
     if brace_A is not None:
         for s in range(1, storeys + 1):
@@ -111,12 +111,12 @@ def sway_frame(storeys=3, bays=2, h=3.5, b=6.0, Ic=2.0e-5, Ib=4.0e-5, P=-2.0e5, 
                 cells.append([idx[a], idx[c]])
                 N.append(0.0)
                 I.append(1e-8)
-                A.append(brace_A)
+                area.append(brace_A)
                 bar.append(1)
     r = np.zeros((len(pts), 6))
     for i in range(bays + 1):
         r[idx[i, 0]] = base
     n = len(cells)
-    fields = {"axial_force": N, "E": [E] * n, "G": [G] * n, "A": A, "Iy": I, "Iz": I,
+    fields = {"axial_force": N, "E": [E] * n, "G": [G] * n, "A": area, "Iy": I, "Iz": I,
               "J": [1e-6] * n, "bar": bar}
     return mesh(pts, cells, r, fields)

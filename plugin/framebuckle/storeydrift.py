@@ -48,12 +48,21 @@ def floor_levels(frame, given=None) -> tuple[np.ndarray, float, str]:
     fixed = frame.restraint[:, :3].any(axis=1)
     base = float(z[fixed].min()) if fixed.any() else float(z.min())
     if given:
-        lv = np.unique(np.round(np.asarray(given, float) / tol) * tol)
+        lv = _cluster(np.asarray(given, float), tol)
         return lv[lv > base + tol], base, "[[storeys]] level"
     e = frame.elements
     flat = np.abs(z[e[:, 1]] - z[e[:, 0]]) <= tol
-    lv = np.unique(np.round(z[e[flat].ravel()] / tol) * tol)
+    lv = _cluster(z[e[flat].ravel()], tol)
     return lv[lv > base + tol], base, "horizontal members (floor levels)"
+
+
+def _cluster(values, tol) -> np.ndarray:
+    """Sorted values with those within ``tol`` of their neighbour merged (their mean)."""
+    v = np.sort(np.asarray(values, float))
+    if v.size == 0:
+        return v
+    groups = np.split(v, np.flatnonzero(np.diff(v) > tol) + 1)
+    return np.array([g.mean() for g in groups])
 
 
 def _vertical_forces(frame, axial):
@@ -109,7 +118,7 @@ def storey_drift(frame, axial, levels, base, solve_free, free, n_dofs, planar_ax
             ok = V[i] > 0 and shear > 0 and drift > 0
             out.append({"storey": i + 1, "bottom": float(bounds[i]), "top": float(bounds[i + 1]),
                         "height": h, "direction": "XY"[d], "V_Ed": float(V[i]), "H_Ed": shear,
-                        "drift": drift, "alpha_cr": (shear / V[i]) * (h / drift) if ok else None})
+                        "drift": drift, "alpha_cr": float(shear / V[i] * h / drift) if ok else None})
     return out
 
 
