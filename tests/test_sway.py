@@ -7,7 +7,7 @@ import pytest
 import scipy.linalg as sla
 
 import framebuckle as fb
-from framebuckle.check import members_csv, run_check
+from framebuckle.check import _verdict_short, members_csv, run_check
 from framebuckle.globalmode import MEMBER_TEXT
 from framebuckle.participation import chord_work, element_energies, participation
 from framebuckle.static import solve_static
@@ -89,7 +89,7 @@ def test_upward_search_finds_the_sway_mode_above_the_requested_ones():
     st2 = study_from_dict({"checks": {"min_alpha": 25, "sway_search_modes": 6}})
     c2 = _case(run_check(fb.solve(F.sway_frame(**BRACED), st2, subdivide=4, modes=4, planar=True), st2))
     assert c2["alpha_cr_sway"] is None and c2["alpha_cr_sway_min"] == pytest.approx(lam[5], rel=1e-8)
-    assert not c2["passed"] and "undecided" in run_check.__globals__["_verdict_short"](c2["verdicts"])
+    assert not c2["passed"] and "undecided" in _verdict_short(c2["verdicts"])
 
 
 def test_sway_classification_does_not_depend_on_the_mesh():
@@ -202,3 +202,20 @@ def test_storeys_from_the_study_file():
     assert [s["height"] for s in d["storeys"]] == pytest.approx([3 * H])
     with pytest.raises(fb.InputError, match="P_story.*or level"):
         run_check(res, study_from_dict({"storeys": [{"name": "x"}]}))
+
+
+def test_bad_sway_settings():
+    res = fb.solve(F.portal(), subdivide=2, modes=1, planar=True)
+    for bad in ({"sway_search_modes": 0}, {"member_min_alpha": -1.0}):
+        with pytest.raises(fb.InputError, match=r"\[checks\]"):
+            run_check(res, study_from_dict({"checks": bad}))
+
+
+def test_report_shows_the_sway_verdict_and_member_buckling():
+    from framebuckle.report import build_html
+    res = fb.solve(F.sway_frame(**BRACED), subdivide=4, modes=4, planar=True)
+    rep = run_check(res)
+    page = build_html(res, {}, [], rep, when="test")
+    assert "alpha_cr,sway &gt;= " in page and "certified lower bound" in page
+    assert "member buckling, to be covered by member design with the effective lengths" in page
+    assert MEMBER_TEXT in page and "(FAIL)" not in page
