@@ -9,8 +9,9 @@ with the model's own stiffness ``K`` (the factorization the eigensolution used).
 
 * **Vertical axis**: global Z, up.
 * **Floor levels**: the ``level`` values of ``[[storeys]]`` in the study file when given;
-  otherwise the elevations of the horizontal members (both ends at the same Z within 1e-6 of
-  the model's height) above the base (the lowest restrained point).  Storey ``i`` lies between
+  otherwise the elevations above the base (the lowest restrained point) of the points where a
+  vertical cell ends from below and a horizontal cell (both ends at the same Z within 1e-6 of
+  the model's height) is joined: beam-to-column joints.  Storey ``i`` lies between
   level ``i - 1`` (the base for the first) and level ``i``.
 * **Vertical load** at the bottom of storey ``i``: the sum of the vertical components of the
   compressive axial forces of the case over the cells crossing the storey's mid-height plane.
@@ -51,9 +52,15 @@ def floor_levels(frame, given=None) -> tuple[np.ndarray, float, str]:
         lv = _cluster(np.asarray(given, float), tol)
         return lv[lv > base + tol], base, "[[storeys]] level"
     e = frame.elements
-    flat = np.abs(z[e[:, 1]] - z[e[:, 0]]) <= tol
-    lv = _cluster(z[e[flat].ravel()], tol)
-    return lv[lv > base + tol], base, "horizontal members (floor levels)"
+    d = frame.nodes[e[:, 1]] - frame.nodes[e[:, 0]]
+    dz = np.abs(d[:, _Z])
+    flat = dz <= tol
+    vertical = np.linalg.norm(d[:, :2], axis=1) <= tol
+    upper = np.where(d[:, _Z] > 0, e[:, 1], e[:, 0])[vertical]     # top ends of vertical cells
+    # a floor point: the top of a vertical cell where a horizontal member is joined
+    joint = np.intersect1d(upper, e[flat].ravel())
+    lv = _cluster(z[joint], tol)
+    return lv[lv > base + tol], base, "horizontal members at column tops (floor levels)"
 
 
 def _cluster(values, tol) -> np.ndarray:
