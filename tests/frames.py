@@ -136,3 +136,57 @@ def mezzanine(pinned_beams=True, scale=None):
         fields["release_start"] = rel
         fields["release_end"] = rel
     return mesh(pts, cells, r, fields)
+
+
+def sway_frame(storeys=3, bays=2, h=3.5, b=6.0, Ic=2.0e-5, Ib=4.0e-5, P=-2.0e5, brace_A=None,
+               base=FIXED, ncol=1, beam_I=None, A=1e-2):
+    """Multi-storey, multi-bay plane frame in the X-Z plane, rigid joints, bases ``base``.
+
+    Every column carries ``P`` per storey above it (gravity only: beams and braces carry no axial
+    force); ``A``: area of columns and beams. ``brace_A``: X-bracing bars (area) in the first bay of every storey, making the frame
+    braced. ``ncol``: cells per column (the column is still one member). Cells: columns storey by
+    storey (left to right, ``ncol`` cells each), then beams, then braces.
+    """
+    xs = np.arange(bays + 1) * b
+    pts, idx = [], {}
+    for s in range(storeys + 1):
+        for i, x in enumerate(xs):
+            idx[i, s] = len(pts)
+            pts.append([x, 0.0, s * h])
+    cells, N, I, area, bar = [], [], [], [], []
+    for s in range(1, storeys + 1):
+        for i in range(bays + 1):
+            lo, hi = idx[i, s - 1], idx[i, s]
+            chain = [lo]
+            for j in range(1, ncol):
+                chain.append(len(pts))
+                pts.append([xs[i], 0.0, (s - 1 + j / ncol) * h])
+            chain.append(hi)
+            for a, c in zip(chain, chain[1:]):
+                cells.append([a, c])
+                N.append(P * (storeys - s + 1))
+                I.append(Ic)
+                area.append(A)
+                bar.append(0)
+    for s in range(1, storeys + 1):
+        for i in range(bays):
+            cells.append([idx[i, s], idx[i + 1, s]])
+            N.append(0.0)
+            I.append(Ib if beam_I is None else beam_I)
+            area.append(A)
+            bar.append(0)
+    if brace_A is not None:
+        for s in range(1, storeys + 1):
+            for a, c in (((0, s - 1), (1, s)), ((1, s - 1), (0, s))):
+                cells.append([idx[a], idx[c]])
+                N.append(0.0)
+                I.append(1e-8)
+                area.append(brace_A)
+                bar.append(1)
+    r = np.zeros((len(pts), 6))
+    for i in range(bays + 1):
+        r[idx[i, 0]] = base
+    n = len(cells)
+    fields = {"axial_force": N, "E": [E] * n, "G": [G] * n, "A": area, "Iy": I, "Iz": I,
+              "J": [1e-6] * n, "bar": bar}
+    return mesh(pts, cells, r, fields)

@@ -230,9 +230,44 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                 "mesh_check": check, "warping": "equivalent" if wrest is None else "dof"}
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
-    res = Result(im, ref, cons, cases, notes, settings, warnings)
+    res = Result(im, ref, cons, cases, notes, settings, warnings,
+                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method))
     res.timings.update(timings)
     return res
+
+
+class CasePencils:
+    """The pencil ``(K, Kg)`` and factorization each case was solved with, for later stages.
+
+    Built from the very objects :func:`run` used (assembler, geometric-stiffness builder,
+    constraints, factorization, preload), so a stage that extends a solution works on
+    exactly the solve's matrices.  ``Kg`` of a case is assembled again on demand (the same
+    function on the same input) rather than kept for every case.
+    """
+
+    def __init__(self, asm, geo, cons, Kff, factor, pre, cases, method):
+        self.asm, self.geo, self.cons, self.Kff, self.factor, self.pre = asm, geo, cons, Kff, factor, pre
+        self._cases = {c.name: c for c in cases}
+        self.method = method
+
+    @property
+    def free(self) -> np.ndarray:
+        return self.cons.free
+
+    def __call__(self, name: str):
+        """``(factor, Kff, Gff)`` of case ``name`` on the free DOFs, as the eigensolver saw them."""
+        case = self._cases[name]
+        pre = self.pre
+        Kc, fac = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (self.Kff, self.factor)
+        free = self.cons.free
+        return fac, Kc, self.geo(case)[free][:, free]
+
+    def full_modes(self, vecs: np.ndarray) -> np.ndarray:
+        """Free-DOF vectors (n_free, j) -> modes (j, n_fine_nodes, 6), normalised as in the Result."""
+        fine = self.asm.frame
+        full = np.zeros((self.asm.n, vecs.shape[1]))
+        full[self.cons.free] = vecs
+        return normalise_modes(full[:fine.n_dofs], fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max()))
 
 
 def _explained(exc, warnings):

@@ -18,6 +18,9 @@ from pathlib import Path
 import numpy as np
 
 from . import codecheck
+from . import storeydrift
+from .globalmode import MEMBER_TEXT, lowest_sway, sway_text
+from .globalmode import verdicts as verdicts_of
 from .effective import (MEMBER_SHARE, NEGLIGIBLE, design_lengths, design_summary, effective_lengths,
                         member_forces)
 from .errors import InputError, OutputError
@@ -28,6 +31,11 @@ from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, case_energies, 
 from .results import CAUTIONS
 from .sensitivity import bending_sensitivity, ranking, repeated
 from .study import Study
+from .upward import MAX_MODES
+
+#: a mode below this load factor buckles under the design loads themselves: no member design
+#: can pass (N_Ed > N_cr gives chi A fy < N_cr < N_Ed, EN 1993-1-1:2005 6.3.1.2); [checks] member_min_alpha
+MEMBER_MIN_ALPHA = 1.0
 
 #: ``row_type`` "design": a member's design values, from its governing mode (``governing_mode``,
 #: ``mode`` empty, ``design_rank`` 1 = lowest member critical factor); "mode": one mode's values
@@ -36,6 +44,9 @@ CSV_COLUMNS = ("case", "row_type", "mode", "governing_mode", "load_factor", "mod
                "length", "status", "N_Ed", "N_cr", "L_cr_y", "L_cr_z", "L_cr_ratio_y", "L_cr_ratio_z", "axis",
                "L_cr", "L_cr_ratio", "slenderness", "energy_share", "relative_share", "sensitivity",
                "sensitivity_rank", "design_rank")
+
+# per case: the global sway mode's load factor, or its certified lower bound (framebuckle.globalmode)
+CSV_COLUMNS += ("alpha_cr_sway", "alpha_cr_sway_min")
 
 #: load factors closer than this (relative) are a cluster: sensitivities marked indicative
 CLOSE = 0.01
@@ -71,8 +82,16 @@ def _storeys(study: Study) -> list:
     out = []
     for i, s in enumerate(study.get("storeys", default=[]) or []):
         where = f"[[storeys]] entry {i + 1}"
+        if "P_story" not in s and "level" not in s:
+            raise InputError(f"{where}: give P_story (AISC 360-16 Appendix 8) or level (the floor "
+                             f"elevation, for the storey-drift estimate)", source=study.source)
+        if "level" in s and not math.isfinite(s["level"]):
+            raise InputError(f"{where}: level must be a finite number, got {s['level']}", source=study.source)
         if "P_story" not in s:
-            raise InputError(f"{where}: P_story is required", source=study.source)
+            s = dict(s)
+            s.setdefault("name", str(i + 1))
+            out.append(s)
+            continue
         if "P_e_story" not in s and not all(k in s for k in ("H", "height", "drift")):
             raise InputError(f"{where}: give P_e_story, or H, height and drift (AISC 360-16 Eq. A-8-7)",
                              source=study.source)
@@ -114,6 +133,12 @@ def _validate_settings(st: dict, source: str):
                 "aisc_alpha", "aisc_max_B2", "fy"):
         if key in st and not (math.isfinite(st[key]) and st[key] > 0):
             raise InputError(f"[checks] {key} must be a positive number, got {st[key]}", source=source)
+    if "sway_search_modes" in st and not (isinstance(st["sway_search_modes"], int) and st["sway_search_modes"] >= 1):
+        raise InputError(f"[checks] sway_search_modes must be a whole number >= 1, got {st['sway_search_modes']}",
+                         source=source)
+    if "member_min_alpha" in st and not (math.isfinite(st["member_min_alpha"]) and st["member_min_alpha"] >= 0):
+        raise InputError(f"[checks] member_min_alpha must be a number >= 0, got {st['member_min_alpha']}",
+                         source=source)
     for key in ("twist_limit", "sway_limit", "energy_cut", "negligible_compression", "member_share"):
         if key in st and not 0 < st[key] <= 1:
             raise InputError(f"[checks] {key} must be in (0, 1], got {st[key]}", source=source)
@@ -130,13 +155,16 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     im = result.input
     members = group_members(result.model, im.extra.get("member"), im.source)
     ctx = {
-        "result": result, "members": members, "fy": _fy(result, st), "storeys": storeys, "gate": gate,
+        "result": result, "members": members, "fy": _fy(result, st), "gate": gate,
         "mof": members.of_element[result.refined.element_map],      # member of every fine element
+        "storeys": [x for x in storeys if "P_story" in x],
         "neg": float(st.get("negligible_compression", NEGLIGIBLE)),
         "member_share": float(st.get("member_share", MEMBER_SHARE)),
         "limits": (float(st.get("twist_limit", TWIST_LIMIT)), float(st.get("sway_limit", SWAY_LIMIT)),
                    float(st.get("energy_cut", ENERGY_CUT))),
         "cells": _cells_text(members, im.cell_ids), "settings": st,
+        "bound": max(gate, codecheck.first_order_limit(st)),
+        "levels": storeydrift.floor_levels(result.model, [s["level"] for s in storeys if "level" in s]),
         "suffix": (lambda name: "") if len(result.cases) == 1 and result.cases[0].name == "default"
         else (lambda name: f".{name}"),
     }
@@ -160,6 +188,8 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
                     "automatic (collinear chains of equal section through free points)"},
         "indicators": {"twist_limit": tl, "sway_limit": sl, "energy_cut": cut, "negligible_compression": ctx["neg"],
                        "member_share": ctx["member_share"]},
+        "sway_search": {"bound": ctx["bound"], "max_modes": int(st.get("sway_search_modes", MAX_MODES))},
+        "member_min_alpha": float(st.get("member_min_alpha", MEMBER_MIN_ALPHA)),
         "imperfection": imp_info,
     }
     summary["cautions"] = list(CAUTIONS)
@@ -172,17 +202,19 @@ def _case(ctx, c, entry, rows, fields):
     im, frame = result.input, result.model
     axial = im.cases[[x.name for x in im.cases].index(c.name)].axial
     alpha = c.alpha_cr
-    verdicts = codecheck.case_verdicts(alpha, ctx["settings"], ctx["storeys"], c.name)
-    ok = (alpha is None or alpha >= ctx["gate"]) and all(v["passes"] for v in verdicts if v["code"] == "AISC360")
-    entry.update({"alpha_cr": alpha, "min_alpha": ctx["gate"], "passed": bool(ok), "verdicts": verdicts})
+    entry.update({"alpha_cr": alpha, "min_alpha": ctx["gate"]})
+    st = ctx["settings"]
+    member_min = float(st.get("member_min_alpha", MEMBER_MIN_ALPHA))
     if c.status != "ok":
+        ok, verdicts, extra, _ = verdicts_of(c, None, st, ctx["storeys"], ctx["gate"], member_min)
+        entry.update({"passed": ok, "verdicts": verdicts, **extra})
         N, _ = member_forces(frame, members, axial)
         for m in range(members.n):
             rows.append(_row(c.name, None, None, "", members, m, ctx["cells"], N[m],
                              "tension" if N[m] > 0 else "negligible", row_type="design"))
         entry.update({"modes": [], "governing_members": [], "stiffen_first": [],
                       "design": {"member_share": ctx["member_share"], "members": [], "not_governed": []}})
-        return ok, (c.name, None, "-", _verdict_short(verdicts), "-", "-", ok)
+        return ok, (c.name, None, "-", _verdict_short(verdicts), "-", "-", ok, "-", "-")
     fine_axial = result.refined.fine_axial(axial)
     mof = ctx["mof"]
     en = case_energies(result, c)                 # the matrices the solve used (releases, ...)
@@ -222,23 +254,44 @@ def _case(ctx, c, entry, rows, fields):
                               f"mode(s) (energy share below {ctx['member_share']:g} of the mode's largest): "
                               f"{', '.join(str(x) for x in ng[:10])}{' ...' if len(ng) > 10 else ''}; their "
                               f"effective lengths are not known: ask for more modes (--modes)")
-    sway = [m for m in modes_out if m["type"] == "sway"]
     first = modes_out[0]
-    entry.update({"modes": modes_out, "alpha_cr_sway": sway[0]["load_factor"] if sway else None,
+    sw = lowest_sway(result, c, part, fine_axial, members, mof, ctx["limits"], ctx["bound"],
+                     int(st.get("sway_search_modes", MAX_MODES)))
+    ok, verdicts, extra, vnotes = verdicts_of(c, sw, st, ctx["storeys"], ctx["gate"], member_min)
+    for m in modes_out:
+        m["verdict"] = ("global sway mode: EN 1993-1-1 5.2.1(3) / 5.2.2" if m["mode"] == extra["sway_mode"]
+                        else MEMBER_TEXT if extra["sway_mode"] is None or m["mode"] < extra["sway_mode"] else "")
+    drift = _storey_drift(ctx, c, axial, extra["alpha_cr_sway"])
+    entry.update({"modes": modes_out, "passed": ok, "verdicts": verdicts, **extra, "storey_drift": drift,
                   "governing_members": first["members_carrying"], "stiffen_first": first["stiffen_first"]})
+    for r in rows[start:]:
+        r.update(alpha_cr_sway=extra["alpha_cr_sway"], alpha_cr_sway_min=extra["alpha_cr_sway_min"])
     if close[0]:
         entry["notes"].append(f"alpha_cr is within {CLOSE:.0%} of another load factor: the modes of such a "
                               f"cluster mix when stiffness changes, so their sensitivities and stiffening "
                               f"advice are indicative")
-    if sway and sway[0]["mode"] != 1:
-        entry["notes"].append(f"the lowest mode is of type '{first['type']}'; the lowest global sway "
-                              f"mode is mode {sway[0]['mode']} (alpha = {sway[0]['load_factor']:.4g}); "
-                              f"verdicts use the lowest alpha_cr (conservative)")
+    entry["notes"] += vnotes
+    if drift and drift["alpha_cr_drift"] is not None:
+        entry["notes"].append(f"storey-drift estimate ({storeydrift.CLAUSE}): alpha_cr = "
+                              f"{drift['alpha_cr_drift']:.4g} (lowest storey; levels from {drift['levels_from']})")
     gov = first["members_carrying"]
     stiff = first["stiffen_first"]
+    dtext = "-" if not drift or drift["alpha_cr_drift"] is None else f"{drift['alpha_cr_drift']:.4g}"
     return ok, (c.name, alpha, first["type"], _verdict_short(verdicts),
                 ", ".join(str(x) for x in gov[:4]) + (" ..." if len(gov) > 4 else ""),
-                str(stiff[0]["member"]) if stiff else "-", ok)
+                str(stiff[0]["member"]) if stiff else "-", ok, sway_text(extra), dtext)
+
+
+def _storey_drift(ctx, c, axial, alpha_sway):
+    """EN 1993-1-1 5.2.1(4)B per storey with the solve's own K (None when no storeys or no K)."""
+    result = ctx["result"]
+    pencil = getattr(result, "pencil", None)
+    levels, base, source = ctx["levels"]
+    if pencil is None or len(levels) == 0:
+        return None
+    rows = storeydrift.storey_drift(result.model, axial, levels, base, pencil.factor.solve, pencil.free,
+                                    pencil.asm.n, result.constraints.planar_axis)
+    return storeydrift.summary(rows, source, alpha_sway if alpha_sway is not None else c.alpha_cr)
 
 
 def _imperfection(result, study, members, fy, mof, fine):
@@ -346,11 +399,13 @@ def _row(case, mode, lam, kind, members, m, cells, N, status, eff=None, share=No
 def _verdict_short(verdicts) -> str:
     parts = []
     for v in verdicts:
+        bounded = v.get("alpha_cr_min") is not None
         if v["check"] == "first_order_analysis":
-            parts.append("1st order ok" if v["passes"] else "2nd order effects")
+            parts.append("1st order ok" if v["passes"] else "undecided" if bounded else "2nd order effects")
         elif v["check"] == "sway_amplification":
-            parts.append(f"amp {v['amplifier']:.3f}" if v["amplifier"] is not None and v["alpha_cr"] is not None
-                         else ("" if v["passes"] else "2nd order analysis"))
+            parts.append(f"amp {'<= ' if bounded else ''}{v['amplifier']:.3f}"
+                         if v["amplifier"] is not None and (v["alpha_cr"] is not None or bounded)
+                         else ("" if v["passes"] or bounded else "2nd order analysis"))
         elif v["check"] == "storey_amplifier_B2":
             parts.append(f"B2[{v['storey']}] {v['B2']:.3f}" if v["B2"] is not None else f"B2[{v['storey']}] unstable")
     return "; ".join(p for p in parts if p)
@@ -366,9 +421,10 @@ def members_csv(rows) -> str:
 
 
 def format_table(report: CheckReport) -> str:
-    head = ("case", "alpha_cr", "mode", "verdicts", "governing members", "stiffen", "result")
-    rows = [(n, "-" if a is None else f"{a:.4g}", t, v, g, s, "pass" if ok else "FAIL")
-            for n, a, t, v, g, s, ok in report.table]
+    head = ("case", "alpha_cr", "mode", "alpha_cr,sway", "storey-drift", "verdicts", "governing members",
+            "stiffen", "result")
+    rows = [(n, "-" if a is None else f"{a:.4g}", t, sw, dr, v, g, s, "pass" if ok else "FAIL")
+            for n, a, t, v, g, s, ok, sw, dr in report.table]
     w = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(head)]
     line = lambda r: "  ".join(f"{x:<{w[i]}}" for i, x in enumerate(r)).rstrip()
     return "\n".join([line(head), "-" * (sum(w) + 2 * (len(w) - 1))] + [line(r) for r in rows])

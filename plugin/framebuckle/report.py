@@ -164,7 +164,17 @@ def build_html(result, pictures: dict, plots: list, check=None, when: str | None
       f"{result.settings.get('subdivide')}, eigensolver {_e(result.settings.get('eigensolver'))}</p>")
 
     w('<h2 id="summary">Summary</h2>')
-    if gov:
+    sw = _sway_governing(check)
+    if gov and sw:              # the engineering check: verdicts from the global sway mode
+        name_sw, val, bounded = sw
+        w(f"<p>The lowest elastic critical load factor is alpha_cr = {gov[1]:.4g} in load case "
+          f"<b>{_e(gov[0])}</b>. The lowest global sway mode gives <b>alpha_cr,sway "
+          f"{'&gt;=' if bounded else '='} {val:.4g}</b> in load case <b>{_e(name_sw)}</b>: "
+          f"{_e(verdict_band(val))} (EN 1993-1-1:2005, 5.2.1(3) and 5.2.2)"
+          f"{' (a certified lower bound: no sway mode below it)' if bounded else ''}. Lower modes are member "
+          f"buckling, covered by member design with the effective lengths. "
+          f"{len(found)} of {len(alphas)} load case(s) have a buckling load factor.</p>")
+    elif gov:
         w(f"<p>The lowest elastic critical load factor is <b>alpha_cr = {gov[1]:.4g}</b> in load case "
           f"<b>{_e(gov[0])}</b>: {_e(verdict_band(gov[1]))} (EN 1993-1-1:2005, 5.2.1(3) and 5.2.2). "
           f"{len(found)} of {len(alphas)} load case(s) have a buckling load factor.</p>")
@@ -181,26 +191,43 @@ def build_html(result, pictures: dict, plots: list, check=None, when: str | None
     w('<h2 id="load-factors">Load factors</h2>')
     w('<table class="load-factors"><thead><tr><th>case</th><th>alpha_cr</th><th>further load factors</th>'
       '<th>verdict band (EN 1993-1-1:2005 5.2.1(3), 5.2.2)</th>'
-      + ("<th>code checks</th><th>mode type</th>" if check else "") + "</tr></thead><tbody>")
+      + ("<th>code checks</th><th>mode type</th><th>alpha_cr,sway (global sway mode)</th>"
+         "<th>storey-drift estimate (EN 1993-1-1:2005 5.2.1(4)B)</th>" if check else "") + "</tr></thead><tbody>")
     ctab = {row[0]: row for row in (check.table if check else [])}
+    centry = {e["name"]: e for e in (check.summary["cases"] if check else [])}
     thresholds = np.array([3.0, 10.0, 15.0])
     for c in result.cases:
         a = c.alpha_cr
+        if check:              # the 5.2.1(3) / 5.2.2 band of the global sway mode (or its bound)
+            e = centry.get(c.name, {})
+            a = e.get("alpha_cr_sway") or e.get("alpha_cr_sway_min") or a
         band = "" if a is None else (f'<span class="band" style="background:'
                                      f'{BAND_COLOURS[int(np.searchsorted(thresholds, a, side="right"))]}"></span>')
         more = ", ".join(_fmt(x) for x in c.load_factors[1:]) or "-"
-        w(f"<tr><td>{_e(c.name)}</td><td class=\"num\">{_fmt(a)}</td><td>{_e(more)}</td>"
+        w(f"<tr><td>{_e(c.name)}</td><td class=\"num\">{_fmt(c.alpha_cr)}</td><td>{_e(more)}</td>"
           f"<td>{band}{_e(verdict_band(a) if a is not None else c.message())}</td>")
         if check:
             row = ctab.get(c.name)
             w(f"<td>{_e(row[3] if row else '-')} ({'pass' if row and row[6] else 'FAIL'})</td>"
-              f"<td>{_e(row[2] if row else '-')}</td>")
+              f"<td>{_e(row[2] if row else '-')}</td><td class=\"num\">{_e(row[7] if row else '-')}</td>"
+              f"<td class=\"num\">{_e(row[8] if row else '-')}</td>")
         w("</tr>")
     w("</tbody></table>")
 
     w('<h2 id="governing">Governing members</h2>')
     if check:
         _design_table(w, check)
+        below = [(e["name"], m) for e in check.summary["cases"] for m in e.get("member_buckling", [])]
+        if below:
+            w("<p>Modes below the global sway mode: member buckling, to be covered by member design "
+              "with the effective lengths (not a failure of EN 1993-1-1:2005 5.2.1(3)).</p><table><thead>"
+              "<tr><th>case</th><th>mode</th><th>load factor</th><th>type</th><th>members</th><th>verdict</th>"
+              "</tr></thead><tbody>")
+            for name, m in below:
+                w(f"<tr><td>{_e(name)}</td><td class=\"num\">{m['mode']}</td><td class=\"num\">"
+                  f"{_fmt(m['load_factor'])}</td><td>{_e(m['type'])}</td><td>"
+                  f"{_e(', '.join(str(x) for x in m['members_carrying'][:8]))}</td><td>{_e(m['verdict'])}</td></tr>")
+            w("</tbody></table>")
     else:
         w(f"<p>Input cells carrying the largest share of the elastic strain energy of each case's first "
           f"mode (the members that take part in the buckling), {N_GOVERNING} per case. Cell numbers "
@@ -281,6 +308,16 @@ def _design_table(w, check):
               f"member(s): {_e(', '.join(str(v) for v in ng[:12]))}{' ...' if len(ng) > 12 else ''}): "
               f"ask for more modes</td></tr>")
     w("</tbody></table>")
+
+
+def _sway_governing(check):
+    """(case, alpha_cr,sway or its lower bound, bounded) of the case with the lowest one, or None."""
+    if not check:
+        return None
+    vals = [(e["name"], e["alpha_cr_sway"], False) if e.get("alpha_cr_sway") is not None else
+            (e["name"], e["alpha_cr_sway_min"], True) for e in check.summary["cases"]
+            if e.get("alpha_cr_sway") is not None or e.get("alpha_cr_sway_min") is not None]
+    return min(vals, key=lambda t: t[1]) if vals else None
 
 
 def _cautions(w):

@@ -53,6 +53,9 @@ class Result:
     settings: dict
     warnings: list = field(default_factory=list)   # sanity / conditioning warnings
     timings: dict = field(default_factory=dict)   # seconds per stage (read, assembly, ...)
+    # the matrices every case was solved with (api.CasePencils), for later stages that
+    # extend a solution (check: the upward search for a sway mode); None when not solved here
+    pencil: "object" = field(default=None, repr=False, compare=False)
 
     @property
     def model(self):

@@ -49,11 +49,12 @@ SCHEMA: dict[str, Any] = {
     "checks": {"min_alpha": _num, "codes": (list,), "analysis": (str,), "en1993_elastic_limit": _num,
                "en1993_plastic_limit": _num, "en1993_amplify_limit": _num, "aisc_alpha": _num,
                "aisc_max_B2": _num, "fy": _num, "negligible_compression": _num, "twist_limit": _num,
-               "sway_limit": _num, "energy_cut": _num, "member_share": _num},
+               "sway_limit": _num, "energy_cut": _num, "member_share": _num, "sway_search_modes": (int,), "member_min_alpha": _num},
     "imperfection": {"case": (str,), "mode": (int,), "amplitude": _num, "e0": _num, "curve": (str,),
                      "W": _num, "fy": _num, "gamma_M1": _num, "alpha_ult_k": _num, "member": (int,)},
     "storeys": ("LIST_OF", {"name": (str,), "case": (str,), "P_story": _num, "P_e_story": _num,
-                            "H": _num, "height": _num, "drift": _num, "P_mf": _num, "R_M": _num}),
+                            "H": _num, "height": _num, "drift": _num, "P_mf": _num, "R_M": _num,
+                            "level": _num}),
 }
 
 SUPPORT_KINDS = {"fixed": [1, 1, 1, 1, 1, 1], "pinned": [1, 1, 1, 0, 0, 0],
