@@ -48,6 +48,11 @@ CSV_COLUMNS = ("case", "row_type", "mode", "governing_mode", "load_factor", "mod
 # per case: the global sway mode's load factor, or its certified lower bound (framebuckle.globalmode)
 CSV_COLUMNS += ("alpha_cr_sway", "alpha_cr_sway_min")
 
+#: ratio storey-drift / eigenvalue alpha_cr,sway inside which the two agree as usual for beam-and-column
+#: frames (common practice: the simple method ignores the columns' own bowing, about 12 / pi^2 = 1.22 at
+#: most for fixed-base columns under rigid beams, and axial shortening); outside it a note says so
+DRIFT_AGREE = (0.8, 1.25)
+
 #: load factors closer than this (relative) are a cluster: sensitivities marked indicative
 CLOSE = 0.01
 
@@ -274,6 +279,13 @@ def _case(ctx, c, entry, rows, fields):
     if drift and drift["alpha_cr_drift"] is not None:
         entry["notes"].append(f"storey-drift estimate ({storeydrift.CLAUSE}): alpha_cr = "
                               f"{drift['alpha_cr_drift']:.4g} (lowest storey; levels from {drift['levels_from']})")
+        ratio = drift.get("ratio_to_eigenvalue")
+        if extra["alpha_cr_sway"] is not None and ratio is not None and not DRIFT_AGREE[0] <= ratio <= DRIFT_AGREE[1]:
+            entry["notes"].append(f"the storey-drift estimate is {ratio:.2f} x the eigenvalue alpha_cr,sway: outside "
+                                  f"the {DRIFT_AGREE[0]:g}-{DRIFT_AGREE[1]:g} agreement usual for beam-and-column "
+                                  f"frames, so this structure is outside the simple method's scope (for example "
+                                  f"compressed rafters, bracing or storeys that do not sway as units); the "
+                                  f"eigenvalue result governs")
     gov = first["members_carrying"]
     stiff = first["stiffen_first"]
     dtext = "-" if not drift or drift["alpha_cr_drift"] is None else f"{drift['alpha_cr_drift']:.4g}"
