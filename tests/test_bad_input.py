@@ -305,6 +305,24 @@ def study_missing_key_field(t):
     return [m, "--study", s], ["study.toml", "material_id", "no cell field"], [m, s]
 
 
+def study_unknown_unit(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[units]\nforce = \"kip\"\nlength = \"m\"\n")
+    return [m, "--study", s], ["study.toml", "[units] force = 'kip'", "kN"], [m, s]
+
+
+def study_stress_unit_alone(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[units]\nstress = \"MPa\"\n")
+    return [m, "--study", s], ["study.toml", "[units] stress = 'MPa'", "force and length"], [m, s]
+
+
+def study_bad_compression_sign(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[analysis]\ncompression = \"up\"\n")
+    return [m, "--study", s], ["study.toml", "[analysis] compression = 'up'", "positive"], [m, s]
+
+
 def out_parent_is_file(t):
     m = _vtu(t, portal())
     f = t / "afile"
@@ -327,7 +345,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              no_support, unsupported_part, coincident_unjoined, mechanism, bar_chain_mechanism,
              study_unknown_key, study_unknown_table, study_wrong_type, study_bad_value,
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
-             study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file]
+             study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
+             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign]
 
 
 def test_catalogue_is_large_enough():
