@@ -311,6 +311,24 @@ def checks_member_share_out_of_range(t):
     return ["check", m, "--study", s], ["study.toml", "[checks] member_share", "(0, 1]", "1.5"], [m, s]
 
 
+def study_unknown_unit(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[units]\nforce = \"kip\"\nlength = \"m\"\n")
+    return [m, "--study", s], ["study.toml", "[units] force = 'kip'", "kN"], [m, s]
+
+
+def study_stress_unit_alone(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[units]\nstress = \"MPa\"\n")
+    return [m, "--study", s], ["study.toml", "[units] stress = 'MPa'", "force and length"], [m, s]
+
+
+def study_bad_compression_sign(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[analysis]\ncompression = \"up\"\n")
+    return [m, "--study", s], ["study.toml", "[analysis] compression = 'up'", "positive"], [m, s]
+
+
 def out_parent_is_file(t):
     m = _vtu(t, portal())
     f = t / "afile"
@@ -334,7 +352,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_unknown_key, study_unknown_table, study_wrong_type, study_bad_value,
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
              study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
-             checks_member_share_out_of_range]
+             checks_member_share_out_of_range,
+             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign]
 
 
 def test_catalogue_is_large_enough():

@@ -185,7 +185,9 @@ def test_stepped_member_switches_to_the_warping_dof():
     eq = fb.solve(m, modes=6, subdivide=8, mesh_check=False, warping="equivalent")
     assert eq.settings["warping"] == "equivalent"
     assert any("not well defined" in w for w in eq.warnings)
-    assert not auto.warnings
+    # no warping warning with "auto" (the test column's load is far below its buckling load, so
+    # the unit-slip rule alpha_cr > 1e3 rightly warns; that one is not about warping)
+    assert not [w for w in auto.warnings if not w.startswith("units:")]
 
 
 def test_interior_twist_release_and_warping_restraint_switch():

@@ -110,7 +110,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     fine = ref.frame
     n_in = im.frame.n_nodes
     wrest = options.get("warping")
-    warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
+    warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases}, im.units,
+                                     im.extra.get("compression") == "positive")
     warnings += list(options.get("warping_warnings", []))
     coarse_cell = _interior_cell(ref, im)
     try:
@@ -219,6 +220,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     finally:
         if worker is not None:
             worker.close()
+    warnings += sanity.load_factor_warnings(im.frame, {c.name: c.axial for c in im.cases},
+                                            {c.name: c.alpha_cr for c in cases}, im.units)
     check = options.get("mesh_check", "auto")
     if _adequacy.wanted(check, im.frame, m) and any(c.status == "ok" for c in cases):
         fine2 = run(im, k, 2 * m, planar, method, options=dict(options, mesh_check=False))

@@ -181,6 +181,11 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     for c in result.cases:
         ok, row = _case(ctx, c, by_name[c.name], rows, fields)
         table.append(row)
+    tension = _all_tension(result, st)
+    if tension:         # a sign slip must not pass as "no compressive instability"
+        for c in summary["cases"]:
+            c["passed"] = False
+        table = [row[:6] + (False,) + row[7:] for row in table]      # item 6 is "passed"
     passed = all(c["passed"] for c in summary["cases"])
     imp_info, imp_mode = _imperfection(result, study, members, ctx["fy"], ctx["mof"], result.fine)
     tl, sl, cut = ctx["limits"]
@@ -197,8 +202,24 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
         "member_min_alpha": float(st.get("member_min_alpha", MEMBER_MIN_ALPHA)),
         "imperfection": imp_info,
     }
+    if tension:
+        summary["check"]["sign_convention"] = tension
     summary["cautions"] = list(CAUTIONS)
     return CheckReport(members, summary, rows, fields, imp_info, imp_mode, bool(passed), table)
+
+
+def _all_tension(result, st) -> str | None:
+    """The refusal when no case has a member in compression (unless allow_all_tension)."""
+    if not result.cases or any(c.status != "no_compression" for c in result.cases):
+        return None
+    if st.get("allow_all_tension", False):
+        return None
+    how = ("compression positive ([analysis] compression = \"positive\")"
+           if result.input.extra.get("compression") == "positive" else "tension positive")
+    return (f"no load case has a member in compression, read {how}: a check of such a file cannot "
+            f"pass, because a sign convention slip looks exactly like this; if compression is "
+            f"positive in the file set [analysis] compression = \"positive\", if the structure "
+            f"really is in tension only set [checks] allow_all_tension = true")
 
 
 def _case(ctx, c, entry, rows, fields):
@@ -325,8 +346,8 @@ def _imperfection(result, study, members, fy, mof, fine):
         ci = names.index(imp["case"])
         if result.cases[ci].status != "ok":
             raise InputError(f"[imperfection] case '{imp['case']}' has no buckling mode", source=study.source)
-    else:
-        ci = ok_cases[0]
+    else:       # the governing case: the lowest alpha_cr (the first of equal ones)
+        ci = min(ok_cases, key=lambda i: result.cases[i].alpha_cr)
     c = result.cases[ci]
     im = result.input
     axial = im.cases[[x.name for x in im.cases].index(c.name)].axial

@@ -270,6 +270,10 @@ def cmd_check(args) -> int:
     result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
     report = run_check(result, study, args.min_alpha)
     paths = write_check(result, report, Path(args.out), force=args.force)
+    for w in result.warnings:
+        print(f"framebuckle: warning: {w}", file=sys.stderr)
+    if report.summary["check"].get("sign_convention"):
+        print(f"framebuckle: {report.summary['check']['sign_convention']}", file=sys.stderr)
     if args.json:
         json.dump(report.summary, sys.stdout, indent=2, default=_jsonable)
         print()

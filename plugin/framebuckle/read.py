@@ -4,7 +4,8 @@ Input contract (default field names; a study file may rename them):
 
 * 2-node ``line`` cells are members, ``line3`` cells are two members;
   other cells only define named point sets.
-* cell fields: ``axial_force`` or ``axial_force.<case>`` (tension positive),
+* cell fields: ``axial_force`` or ``axial_force.<case>`` (tension positive;
+  compression positive with ``[analysis] compression = "positive"``),
   ``E``, ``G``, ``A``, ``Iy``, ``Iz``, ``J``, optional ``Ip``, ``Iw``,
   ``orientation`` (3 components), ``bar`` (1 = pin-ended axial-only member).
 * point field ``restraint`` (n, 6) of 0/1 for [ux, uy, uz, rx, ry, rz].
@@ -17,6 +18,8 @@ Input contract (default field names; a study file may rename them):
 * optional cell fields ``moment_start``, ``moment_end`` (or ``.<case>``): internal
   end moments [T, My, Mz] in local axes, see :mod:`framebuckle.moments`.
 * XDMF time series: each time step is a load case.
+
+Units: see :mod:`framebuckle.units` (stresses converted to the declared force / length^2).
 """
 
 from __future__ import annotations
@@ -30,6 +33,7 @@ from pathlib import Path
 import meshio
 import numpy as np
 
+from . import units
 from .errors import InputError
 from .model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
 from .releases import read_releases
@@ -310,13 +314,20 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
                                         cell_ids, src))
 
     bar = cf("bar")
+    declared = study.units
+    sfac = units.stress_factor(declared)
+
+    def field(name):      # a section/material cell field; stresses to force / length^2
+        a = cf(name)
+        return a * sfac if a is not None and name in units.STRESS_KEYS and sfac != 1.0 else a
+
     props = {}
     for name in SECTION_KEYS + ("Ip", "Iw", "fy", "Asy", "Asz"):
         a = tables.get(name)
         if a is None or np.isnan(a).all():
-            a = cf(name) if name != "fy" else a
+            a = field(name) if name != "fy" else a
         elif np.isnan(a).any():
-            f = cf(name)
+            f = field(name)
             if f is not None:
                 a = np.where(np.isnan(a), f, a)
         props[name] = a
@@ -383,9 +394,15 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
     extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"],
-             "twist_lengths": twist}
-    units = {"force": study.get("units", "force"), "length": study.get("units", "length")}
-    return InputModel(frame, cases, mesh, cell_ids, n_cells, sets, units, notes, src, extra)
+             "twist_lengths": twist,
+             "compression": "positive" if study.compression_positive else "negative"}
+    said = units.note(declared)
+    if said:
+        notes.append(said)
+    if study.compression_positive:
+        notes.append("[analysis] compression = \"positive\": the axial forces of the file were read "
+                     "compression-positive; outputs (N_Ed, axial_force fields) are tension-positive")
+    return InputModel(frame, cases, mesh, cell_ids, n_cells, sets, declared, notes, src, extra)
 
 
 def _shear_area(a):
@@ -395,17 +412,18 @@ def _shear_area(a):
 
 def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
     base = study.field_name("axial_force")
+    sign = -1.0 if study.compression_positive else 1.0      # to tension positive
     cases = []
     if steps:
         for t, pd, cd in steps:
             sub = meshio.Mesh(mesh.points, mesh.cells, cell_data=cd)
             for name in _case_fields(sub, base):
-                a = np.repeat(_cell_field(sub, name, blocks, src), expand)
+                a = sign * np.repeat(_cell_field(sub, name, blocks, src), expand)
                 label = f"t={t:g}" if name == base else f"t={t:g}/{name[len(base) + 1:]}"
                 cases.append(make_case(label, a, frame, src))
     else:
         for name in _case_fields(mesh, base):
-            a = np.repeat(_cell_field(mesh, name, blocks, src), expand)
+            a = sign * np.repeat(_cell_field(mesh, name, blocks, src), expand)
             label = "default" if name == base else name[len(base) + 1:]
             cases.append(make_case(label, a, frame, src))
     cases = _recovered_cases(mesh, study, frame, src, steps, cases)

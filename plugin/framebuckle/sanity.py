@@ -29,10 +29,21 @@ from memory: steel E = 2.1e11 Pa, concrete 3e10 Pa, timber 1e10 Pa, aluminium
 * shear against Young's modulus: :math:`G / E` between 0.05 and 1.0 for
   structural materials (isotropic: 1 / (2 (1 + nu)) = 0.38 for steel);
 * axial strain :math:`|N| / (E A)` above 0.05 means forces in larger units
-  than the stiffness (kN against N/m\ :sup:`2`, ...).
+  than the stiffness (N against N/mm\ :sup:`2` with lengths in m, ...);
+* the median strain of the compressed members (the largest over the cases)
+  below 1e-7, or every case's alpha_cr above 1e3 with that strain below 1e-5,
+  means forces in smaller units than the stiffness (kN against Pa, ...).
+  Loaded structures carry some 1e-6 .. 1e-3 (steel at 0.2 .. 200 MPa) and
+  design load cases have alpha_cr of some 1 .. 100 (common practice).
+
+Both strain warnings name the likely slip: the stress unit that E's
+magnitude suggests, the length unit of A, hence the unit of E A, and the
+force unit a power of 1000 away that brings the strain to 1e-4.
 """
 
 from __future__ import annotations
+
+import math
 
 import numpy as np
 import scipy.sparse as sp
@@ -50,7 +61,7 @@ def _med(a) -> float:
     return float(np.median(a)) if a.size else float("nan")
 
 
-def unit_warnings(frame: Frame, axial_by_case: dict | None = None) -> list[str]:
+def unit_warnings(frame: Frame, axial_by_case: dict | None = None, units: dict | None = None) -> list[str]:
     """Warnings when the magnitudes of E, G, A, I, lengths and forces disagree."""
     out = []
     L = frame.lengths()
@@ -86,8 +97,98 @@ def unit_warnings(frame: Frame, axial_by_case: dict | None = None) -> list[str]:
             i = int(np.argmax(eps))
             out.append(f"units: case '{name}': axial force of cell {int(frame.parent[i])} "
                        f"({axial[i]:.3g}) is {eps[i]:.3g} times E A ({frame.E[i] * frame.A[i]:.3g}); "
-                       f"a strain this large suggests the forces and E or A use different units")
+                       f"a strain this large suggests the forces and E or A use different units"
+                       + _slip(frame, _median_strain(frame, {name: axial})[0], units))
+    strain, case = _median_strain(frame, axial_by_case)
+    if strain < SMALL_STRAIN:
+        out.append(f"units: the median axial strain |N| / (E A) of the compressed members is "
+                   f"{strain:.3g} (case '{case}', the largest of the cases), far below the "
+                   f"1e-6 .. 1e-3 of loaded structures: the forces look too small for E and A"
+                   + _slip(frame, strain, units))
     return out
+
+
+#: median strain |N| / (E A) of the compressed members below which the forces are too small
+SMALL_STRAIN = 1e-7
+#: alpha_cr above which (with a median strain below ALPHA_STRAIN) the loads look too small
+LARGE_ALPHA = 1e3
+ALPHA_STRAIN = 1e-5
+#: a typical axial strain of compressed members under design loads (steel at about 20 MPa);
+#: from memory, common practice: used only to guess the size of a unit slip
+TYPICAL_STRAIN = 1e-4
+
+_PREFIX = {0: "", 3: "k", 6: "M", 9: "G", -3: "m", -6: "micro"}
+
+
+def _median_strain(frame: Frame, axial_by_case: dict | None) -> tuple[float, str | None]:
+    """The largest over the cases of the median |N| / (E A) of the compressed members."""
+    best, which = float("nan"), None
+    for name, axial in (axial_by_case or {}).items():
+        axial = np.asarray(axial, float)
+        eps = np.abs(axial) / (frame.E * frame.A)
+        comp = axial < 0
+        if comp.any() and not best >= _med(eps[comp]):
+            best, which = _med(eps[comp]), name
+    return best, which
+
+
+def _guess(frame: Frame) -> tuple[int, str, int, str]:
+    """Stress unit (exponent, name) that E's magnitude suggests, and length unit of A.
+
+    Young's moduli of structural materials span about 5e9 .. 3e11 Pa (timber to steel,
+    from memory), so E >= 1e9 is in Pa, 1e6 .. 1e9 in kPa, 1e3 .. 1e6 in MPa (N/mm^2), below
+    in GPa (kN/mm^2); section areas of members are below 1 m^2 and above 1 mm^2 ... 10 mm^2.
+    """
+    E, A = _med(frame.E), _med(frame.A)
+    s = 0 if E >= 1e9 else 3 if E >= 1e6 else 6 if E >= 1e3 else 9
+    length = (0, "m") if A < 1.0 else (-3, "mm")
+    return s, {0: "Pa", 3: "kPa", 6: "MPa", 9: "GPa"}[s], length[0], length[1]
+
+
+def _slip(frame: Frame, strain: float, units: dict | None = None) -> str:
+    """' ... Likely slip: ...' naming the units that would explain the strain, or ''."""
+    if not strain > 0:
+        return ""
+    return _slip_by(frame, 3 * int(round(math.log10(strain / TYPICAL_STRAIN) / 3)), units)
+
+
+def _slip_by(frame: Frame, k: int, units: dict | None = None) -> str:
+    """The text for forces 10^k times too large (k < 0: too small) for the stiffness."""
+    if k == 0:
+        return ""
+    if units and units.get("force") and units.get("length"):
+        from .units import FORCE
+        real = FORCE[units["force"]] - k
+        name = {v: n for n, v in FORCE.items()}.get(real, f"1e{real} N")
+        return (f" (about {10.0 ** abs(k):g} times too {'small' if k < 0 else 'large'}); [units] declares "
+                f"force = \"{units['force']}\", but they look like {name}: check the declared units")
+    s, sname, ln, lname = _guess(frame)
+    ea = s + 2 * ln                          # E A is in 10^ea N
+    force = ea - k
+    fname = f"{_PREFIX[force]}N" if force in _PREFIX else f"1e{force} N"
+    pa = {"Pa": "N/m^2", "kPa": "kN/m^2", "MPa": "N/mm^2", "GPa": "kN/mm^2"}[sname]
+    return (f" (about {10.0 ** abs(k):g} times too {'small' if k < 0 else 'large'}). Likely slip: forces "
+            f"in {fname} with E in {sname} ({pa}) and lengths in {lname}: E (median {_med(frame.E):.3g}) "
+            f"looks like {sname} and A (median {_med(frame.A):.3g}) like {lname}^2, so E A is in "
+            f"{_PREFIX.get(ea, '?')}N; give every field in one set of units, or declare them in "
+            f"[units] (force, length, stress) so that they are converted")
+
+
+def load_factor_warnings(frame: Frame, axial_by_case: dict, alpha_by_case: dict,
+                         units: dict | None = None) -> list[str]:
+    """After the solve: every alpha_cr above :data:`LARGE_ALPHA` with small strains."""
+    alphas = {k: a for k, a in alpha_by_case.items() if a is not None}
+    if not alphas or min(alphas.values()) <= LARGE_ALPHA:
+        return []
+    strain, _ = _median_strain(frame, axial_by_case)
+    if not strain < ALPHA_STRAIN or strain < SMALL_STRAIN:     # the latter is said already
+        return []
+    return [f"units: alpha_cr of every case is above {LARGE_ALPHA:g} (lowest {min(alphas.values()):.4g}): "
+            f"the loads are less than a thousandth of the buckling loads, which design load cases "
+            f"rarely are, and the median axial strain of the compressed members is {strain:.3g}: "
+            f"the forces look too small for E and A"
+            # design load cases have alpha_cr of about 1 .. 100 (common practice)
+            + _slip_by(frame, -3 * max(1, round(math.log10(min(alphas.values()) / 10) / 3)), units)]
 
 
 def unused_points(frame: Frame) -> np.ndarray:
@@ -146,6 +247,22 @@ def part_warnings(frame: Frame) -> list[str]:
             f"points where they meet"]
 
 
-def model_warnings(frame: Frame, axial_by_case: dict | None = None) -> list[str]:
+def sign_warnings(axial_by_case: dict | None, compression_positive: bool = False) -> list[str]:
+    """No member of any case in compression, but members in tension: a sign convention slip?"""
+    axial = [np.asarray(a, float) for a in (axial_by_case or {}).values()]
+    if not axial or any((a < 0).any() for a in axial) or not any((a > 0).any() for a in axial):
+        return []
+    if compression_positive:
+        return ["signs: no member of any load case is in compression although the axial forces were "
+                "read compression positive ([analysis] compression = \"positive\"): check the sign "
+                "convention of the file"]
+    return ["signs: no member of any load case is in compression (axial forces are read tension "
+            "positive): if the file gives compression as positive, set [analysis] compression = "
+            "\"positive\" in the study file"]
+
+
+def model_warnings(frame: Frame, axial_by_case: dict | None = None, units: dict | None = None,
+                   compression_positive: bool = False) -> list[str]:
     """All plausibility warnings of a coarse (input) model."""
-    return coincident_warnings(frame) + part_warnings(frame) + unit_warnings(frame, axial_by_case)
+    return (coincident_warnings(frame) + part_warnings(frame) + unit_warnings(frame, axial_by_case, units)
+            + sign_warnings(axial_by_case, compression_positive))

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from . import units
 from .errors import InputError
 
 #: Field names the reader looks for, and their defaults in the file.
@@ -34,9 +35,9 @@ _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", 
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
                  "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
-                 "moment_terms": (bool, str), "warping": (str,)},
+                 "moment_terms": (bool, str), "warping": (str,), "compression": (str,)},
     "warping": {"supports": (str,), "points": (list,)},
-    "units": {"force": (str,), "length": (str,)},
+    "units": {"force": (str,), "length": (str,), "stress": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
     "materials": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
@@ -49,13 +50,17 @@ SCHEMA: dict[str, Any] = {
     "checks": {"min_alpha": _num, "codes": (list,), "analysis": (str,), "en1993_elastic_limit": _num,
                "en1993_plastic_limit": _num, "en1993_amplify_limit": _num, "aisc_alpha": _num,
                "aisc_max_B2": _num, "fy": _num, "negligible_compression": _num, "twist_limit": _num,
-               "sway_limit": _num, "energy_cut": _num, "member_share": _num, "sway_search_modes": (int,), "member_min_alpha": _num},
+               "sway_limit": _num, "energy_cut": _num, "member_share": _num, "sway_search_modes": (int,), "member_min_alpha": _num,
+               "allow_all_tension": (bool,)},
     "imperfection": {"case": (str,), "mode": (int,), "amplitude": _num, "e0": _num, "curve": (str,),
                      "W": _num, "fy": _num, "gamma_M1": _num, "alpha_ult_k": _num, "member": (int,)},
     "storeys": ("LIST_OF", {"name": (str,), "case": (str,), "P_story": _num, "P_e_story": _num,
                             "H": _num, "height": _num, "drift": _num, "P_mf": _num, "R_M": _num,
                             "level": _num}),
 }
+
+#: sign conventions of the axial forces in the file: the sign of a compressive force
+COMPRESSION = ("negative", "positive")
 
 SUPPORT_KINDS = {"fixed": [1, 1, 1, 1, 1, 1], "pinned": [1, 1, 1, 0, 0, 0],
                  "roller_z": [0, 0, 1, 0, 0, 0]}
@@ -76,6 +81,15 @@ class Study:
 
     def field_name(self, ours: str) -> str:
         return self.get("fields", ours, default=FIELD_DEFAULTS.get(ours, ours))
+
+    @property
+    def units(self) -> dict:
+        """Declared ``[units]``: force, length, stress (None where not given)."""
+        return units.declared(self.data, self.source)
+
+    @property
+    def compression_positive(self) -> bool:
+        return self.get("analysis", "compression", default="negative") == "positive"
 
     @property
     def source(self) -> str:
@@ -100,8 +114,14 @@ def load_study(path: str | Path | None) -> Study:
 
 
 def study_from_dict(data: dict, source: str = "<study>") -> Study:
+    """A checked study; stress values are converted to the declared force / length^2
+    (see :mod:`framebuckle.units`)."""
     _validate(data, SCHEMA, "", source)
-    return Study(data, source)
+    comp = data.get("analysis", {}).get("compression", "negative")
+    if comp not in COMPRESSION:
+        raise InputError(f"[analysis] compression = '{comp}' is not one of {', '.join(COMPRESSION)} "
+                         f"(\"negative\": tension positive, the default)", source=source)
+    return Study(units.convert_study(data, units.stress_factor(units.declared(data, source))), source)
 
 
 def _validate(data, schema, prefix, source):
