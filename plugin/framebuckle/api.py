@@ -17,7 +17,7 @@ from .errors import InputError, ModelError, SolverError
 from .read import InputModel, read_input
 from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
-from .solve import buckling_modes, check_supported, factorize, find_constraints
+from .solve import buckling_modes, check_supported, factorize, find_constraints, scale_matrix
 from .study import Study, load_study, study_from_dict
 
 DEFAULT_MODES = 4
@@ -122,19 +122,23 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         timings["assembly"] = time.perf_counter() - t
         t = time.perf_counter()
         stage(f"factorizing ({len(cons.free)} free DOFs)")
-        factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
+        # the pencil is solved scaled, D K D and D Kg D with D = diag(K)^-1/2 (framebuckle.solve.
+        # symmetric_scaling): the same numbers in every set of units; modes map back as D phi
+        factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell, scale=True)
+        dscale = factor.scale
         timings["factorization"] = time.perf_counter() - t
     except ModelError as exc:
         raise _explained(exc, warnings) from None
     timings["cases"] = []
     free = cons.free
-    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
+    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm, scale=dscale)[0]
     geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
     pre = None
     if options.get("preload"):
         pname, pfac = options["preload"]
         pcase = next(c for c in im.cases if c.name == pname)
-        pre = _preload.prepare(pname, pfac, Kff, geo(pcase)[free][:, free], im.source)
+        pre = _preload.prepare(pname, pfac, Kff, scale_matrix(geo(pcase)[free][:, free], dscale),
+                               im.source)
     cases = []
     v0 = None
     # the Sturm counts of large models run in a second process beside the next case
@@ -149,7 +153,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
                 cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
                 continue
-            Gff = geo(case)[free][:, free]
+            Gff = scale_matrix(geo(case)[free][:, free], dscale)
             try:
                 er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
                 try:
@@ -172,7 +176,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                 continue
             v0 = er.modes                       # warm start of the next case: neighbouring combinations
             full = np.zeros((asm.n, er.modes.shape[1]))
-            full[free] = er.modes
+            full[free] = dscale[:, None] * er.modes       # the physical (unscaled) modes
             full = full[:fine.n_dofs]
             notes = list(case.extra.get("notes", []))
             if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
