@@ -66,3 +66,47 @@ def cruciform(L=1.0, b=0.1, t=0.01, N=-1000.0, ncell=2):
     J = 4 * b * t ** 3 / 3
     m = column(ncell, PINNED, [1, 1, 0, 1, 0, 0], L=L, I=I, A=A, J=J, N=N, Iz_factor=1.0)
     return m, {"A": A, "I": I, "J": J, "Ip": 2 * I}
+
+
+def two_storey(h=(5.0, 4.0), b=(6.0,), Ic=1e-5, Ib=8e-5, Ac=7.8e-3, Ab=5e-3, P=400e3, cut=None):
+    """Unbraced fixed-base frame of two storeys in the X-Z plane (3D model: not planar).
+
+    Columns carry ``P`` per storey above them, the beams nothing.  ``cut``: heights at which
+    the first column is split (two close heights: a very short cell between long ones).
+    """
+    xs = np.concatenate([[0.0], np.cumsum(b)])
+    zs = np.concatenate([[0.0], np.cumsum(h)])
+    pts, idx = [], {}
+    for s, z in enumerate(zs):
+        for i, x in enumerate(xs):
+            idx[i, s] = len(pts)
+            pts.append([x, 0.0, z])
+    cells, N, I, A = [], [], [], []
+    for s in range(1, len(zs)):
+        for i in range(len(xs)):
+            lo, hi = idx[i, s - 1], idx[i, s]
+            if cut is not None and (i, s) == (0, 1):
+                chain = [lo]
+                for z in cut:
+                    pts.append([xs[0], 0.0, z])
+                    chain.append(len(pts) - 1)
+                chain.append(hi)
+                cells += [[p, q] for p, q in zip(chain[:-1], chain[1:])]
+                N += [-P * (len(zs) - s)] * (len(chain) - 1)
+                I += [Ic] * (len(chain) - 1)
+                A += [Ac] * (len(chain) - 1)
+                continue
+            cells.append([lo, hi])
+            N.append(-P * (len(zs) - s))
+            I.append(Ic)
+            A.append(Ac)
+        for i in range(len(xs) - 1):
+            cells.append([idx[i, s], idx[i + 1, s]])
+            N.append(0.0)
+            I.append(Ib)
+            A.append(Ab)
+    r = np.zeros((len(pts), 6))
+    r[[idx[i, 0] for i in range(len(xs))]] = FIXED
+    n = len(cells)
+    fields = {"axial_force": N, "E": [E] * n, "G": [G] * n, "A": A, "Iy": I, "Iz": I, "J": [2e-7] * n}
+    return mesh(pts, cells, r, fields)
