@@ -68,7 +68,7 @@ def cruciform(L=1.0, b=0.1, t=0.01, N=-1000.0, ncell=2):
     return m, {"A": A, "I": I, "J": J, "Ip": 2 * I}
 
 
-def two_storey(h=(5.0, 4.0), b=(6.0,), Ic=1e-5, Ib=8e-5, Ac=7.8e-3, Ab=5e-3, P=400e3, cut=None):
+def two_storey(h=(4.0, 3.5), b=(6.0,), Ic=1e-5, Ib=8e-5, Ac=7.8e-3, Ab=5e-3, P=400e3, cut=None):
     """Unbraced fixed-base frame of two storeys in the X-Z plane (3D model: not planar).
 
     Columns carry ``P`` per storey above them, the beams nothing.  ``cut``: heights at which

@@ -67,8 +67,8 @@ DENSE_STURM = 300
 #: free DOFs up to which the dense LDL^T is the fall-back of the sparse one
 DENSE_FALLBACK = 2000
 #: condition-number estimate of the scaled K (unit diagonal) above which a warning is given:
-#: residuals of about eps * kappa = 1e-6 (RESIDUAL_TOL) are then all a stable solve can promise
-COND_WARN = 1e10
+#: residuals of about eps * kappa (2e-7) are then close to what a stable solve can promise (1e-6)
+COND_WARN = 1e9
 
 
 #: free DOFs up to which a case whose iterative solution missed load factors is solved again densely
