@@ -190,3 +190,47 @@ def sway_frame(storeys=3, bays=2, h=3.5, b=6.0, Ic=2.0e-5, Ib=4.0e-5, P=-2.0e5, 
     fields = {"axial_force": N, "E": [E] * n, "G": [G] * n, "A": area, "Iy": I, "Iz": I,
               "J": [1e-6] * n, "bar": bar}
     return mesh(pts, cells, r, fields)
+
+
+def two_storey(h=(4.0, 3.5), b=(6.0,), Ic=1e-5, Ib=8e-5, Ac=7.8e-3, Ab=5e-3, P=400e3, cut=None):
+    """Unbraced fixed-base frame of two storeys in the X-Z plane (3D model: not planar).
+
+    Columns carry ``P`` per storey above them, the beams nothing.  ``cut``: heights at which
+    the first column is split (two close heights: a very short cell between long ones).
+    """
+    xs = np.concatenate([[0.0], np.cumsum(b)])
+    zs = np.concatenate([[0.0], np.cumsum(h)])
+    pts, idx = [], {}
+    for s, z in enumerate(zs):
+        for i, x in enumerate(xs):
+            idx[i, s] = len(pts)
+            pts.append([x, 0.0, z])
+    cells, N, I, A = [], [], [], []
+    for s in range(1, len(zs)):
+        for i in range(len(xs)):
+            lo, hi = idx[i, s - 1], idx[i, s]
+            if cut is not None and (i, s) == (0, 1):
+                chain = [lo]
+                for z in cut:
+                    pts.append([xs[0], 0.0, z])
+                    chain.append(len(pts) - 1)
+                chain.append(hi)
+                cells += [[p, q] for p, q in zip(chain[:-1], chain[1:])]
+                N += [-P * (len(zs) - s)] * (len(chain) - 1)
+                I += [Ic] * (len(chain) - 1)
+                A += [Ac] * (len(chain) - 1)
+                continue
+            cells.append([lo, hi])
+            N.append(-P * (len(zs) - s))
+            I.append(Ic)
+            A.append(Ac)
+        for i in range(len(xs) - 1):
+            cells.append([idx[i, s], idx[i + 1, s]])
+            N.append(0.0)
+            I.append(Ib)
+            A.append(Ab)
+    r = np.zeros((len(pts), 6))
+    r[[idx[i, 0] for i in range(len(xs))]] = FIXED
+    n = len(cells)
+    fields = {"axial_force": N, "E": [E] * n, "G": [G] * n, "A": A, "Iy": I, "Iz": I, "J": [2e-7] * n}
+    return mesh(pts, cells, r, fields)

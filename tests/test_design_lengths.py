@@ -136,7 +136,11 @@ def test_leaning_column_portal_each_member_from_its_own_mode(I2, P2, sway_first)
     # the lowest mode alone gives the other member a length from a mode it takes no part in
     other = mode_row(rep, 1, 1 if sway_first else 0)
     assert other["energy_share"] < 1e-6
-    assert other["L_cr_ratio"] > 1.5 * (lean if sway_first else cant)["L_cr_ratio"]
+    # (or none at all, where the mode does not bend it beyond rounding: effective.BENT)
+    if other["axis"] == "":
+        assert other["L_cr_ratio"] is None
+    else:
+        assert other["L_cr_ratio"] > 1.5 * (lean if sway_first else cant)["L_cr_ratio"]
     # ranking by the member critical factor: the member of mode 1 first
     ranked = [x["member"] for x in rep.summary["cases"][0]["design"]["members"]]
     assert ranked == ([0, 1] if sway_first else [1, 0])

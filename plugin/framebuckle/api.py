@@ -17,7 +17,7 @@ from .errors import InputError, ModelError, SolverError
 from .read import InputModel, read_input
 from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
-from .solve import buckling_modes, check_supported, factorize, find_constraints
+from .solve import buckling_modes, check_supported, factorize, find_constraints, scale_matrix
 from .study import Study, load_study, study_from_dict
 from .twistlength import EQUIVALENT_NOTE
 
@@ -129,19 +129,23 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         timings["assembly"] = time.perf_counter() - t
         t = time.perf_counter()
         stage(f"factorizing ({len(cons.free)} free DOFs)")
-        factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell)
+        # the pencil is solved scaled, D K D and D Kg D with D = diag(K)^-1/2 (framebuckle.solve.
+        # symmetric_scaling): the same numbers in every set of units; modes map back as D phi
+        factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell, scale=True)
+        dscale = factor.scale
         timings["factorization"] = time.perf_counter() - t
     except ModelError as exc:
         raise _explained(exc, warnings) from None
     timings["cases"] = []
     free = cons.free
-    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm)[0]
+    warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm, scale=dscale)[0]
     geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
     pre = None
     if options.get("preload"):
         pname, pfac = options["preload"]
         pcase = next(c for c in im.cases if c.name == pname)
-        pre = _preload.prepare(pname, pfac, Kff, geo(pcase)[free][:, free], im.source)
+        pre = _preload.prepare(pname, pfac, Kff, scale_matrix(geo(pcase)[free][:, free], dscale),
+                               im.source)
     cases = []
     v0 = None
     # the Sturm counts of large models run in a second process beside the next case
@@ -156,7 +160,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
                 cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
                 continue
-            Gff = geo(case)[free][:, free]
+            Gff = scale_matrix(geo(case)[free][:, free], dscale)
             try:
                 er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
                 try:
@@ -179,7 +183,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                 continue
             v0 = er.modes                       # warm start of the next case: neighbouring combinations
             full = np.zeros((asm.n, er.modes.shape[1]))
-            full[free] = er.modes
+            full[free] = dscale[:, None] * er.modes       # the physical (unscaled) modes
             wmodes = full[fine.n_dofs:].T.copy() if asm.n > fine.n_dofs else None
             full = full[:fine.n_dofs]
             notes = list(case.extra.get("notes", []))
@@ -234,7 +238,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     res = Result(im, ref, cons, cases, notes, settings, warnings,
-                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method))
+                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method, dscale))
     res.timings.update(timings)
     return res
 
@@ -248,10 +252,12 @@ class CasePencils:
     function on the same input) rather than kept for every case.
     """
 
-    def __init__(self, asm, geo, cons, Kff, factor, pre, cases, method):
+    def __init__(self, asm, geo, cons, Kff, factor, pre, cases, method, scale=None):
         self.asm, self.geo, self.cons, self.Kff, self.factor, self.pre = asm, geo, cons, Kff, factor, pre
         self._cases = {c.name: c for c in cases}
         self.method = method
+        #: the symmetric scaling d the pencil was solved in: ``Kff`` is D K D with D = diag(d)
+        self.scale = np.ones(len(cons.free)) if scale is None else scale
 
     @property
     def free(self) -> np.ndarray:
@@ -263,13 +269,19 @@ class CasePencils:
         pre = self.pre
         Kc, fac = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (self.Kff, self.factor)
         free = self.cons.free
-        return fac, Kc, self.geo(case)[free][:, free]
+        return fac, Kc, scale_matrix(self.geo(case)[free][:, free], self.scale)
+
+    def solve_static(self, f_free: np.ndarray) -> np.ndarray:
+        """``K u = f`` on the free DOFs in physical units, through the solve's (scaled) factor:
+        u = D (D K D)^-1 D f."""
+        d = self.scale if f_free.ndim == 1 else self.scale[:, None]
+        return d * self.factor.solve(d * f_free)
 
     def full_modes(self, vecs: np.ndarray) -> np.ndarray:
         """Free-DOF vectors (n_free, j) -> modes (j, n_fine_nodes, 6), normalised as in the Result."""
         fine = self.asm.frame
         full = np.zeros((self.asm.n, vecs.shape[1]))
-        full[self.cons.free] = vecs
+        full[self.cons.free] = self.scale[:, None] * vecs          # scaled -> physical
         return normalise_modes(full[:fine.n_dofs], fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max()))
 
 

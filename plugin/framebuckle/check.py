@@ -322,7 +322,7 @@ def _storey_drift(ctx, c, axial, alpha_sway):
     levels, base, source = ctx["levels"]
     if pencil is None or len(levels) == 0:
         return None
-    rows = storeydrift.storey_drift(result.model, axial, levels, base, pencil.factor.solve, pencil.free,
+    rows = storeydrift.storey_drift(result.model, axial, levels, base, pencil.solve_static, pencil.free,
                                     pencil.asm.n, result.constraints.planar_axis)
     return storeydrift.summary(rows, source, alpha_sway if alpha_sway is not None else c.alpha_cr)
 

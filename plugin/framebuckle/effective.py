@@ -53,6 +53,10 @@ from .model import Frame
 NEGLIGIBLE = 1e-3
 #: a member takes part in a mode from this share of the mode's largest member share
 MEMBER_SHARE = 0.05
+
+#: bending energy of a member, relative to the most bent member of the mode, below which the
+#: mode is taken not to bend the member at all (rounding level; no governing axis then)
+BENT = 1e-9
 #: load factors within this (relative) of each other are one repeated eigenvalue
 REPEATED = 1e-6
 
@@ -119,7 +123,10 @@ def effective_lengths(frame: Frame, members: Members, axial: np.ndarray, alpha: 
         ry = Ly / members.length
         rz = Lz / members.length
     about_y = bend_y >= bend_z
-    bent = (bend_y + bend_z) > 0
+    # a member the mode does not bend (energy at rounding level against the mode's most bent
+    # member) gets no axis: its y/z choice would be decided by rounding noise
+    tot = bend_y + bend_z
+    bent = tot > BENT * max(float(np.max(tot, initial=0.0)), 1e-300)
     axis = np.where(beam & bent, np.where(about_y, "y", "z"), "")
     Lg = np.where(axis == "y", Ly, np.where(axis == "z", Lz, np.nan))
     return EffectiveLengths(status, N, Ncr, Ly, Lz, ry, rz, axis, Lg, Lg / members.length, lam, g)

@@ -54,7 +54,8 @@ def lowest_sway(result, case, part, fine_axial, members, mof, limits, bound: flo
     # the case's own modes as free-DOF vectors (warm start); the Result keeps only the nodal DOFs
     fr = pencil.free
     if (fr < case.modes[0].size).all():
-        V, lam_in = case.modes.reshape(len(lam), -1)[:, fr].T, lam
+        # in the coordinates of the solved (scaled) pencil: physical = d * scaled
+        V, lam_in = case.modes.reshape(len(lam), -1)[:, fr].T / pencil.scale[:, None], lam
     else:                                       # appended (warping) DOFs: start afresh
         V, lam_in = np.zeros((len(fr), 0)), np.empty(0)
     up = search_upward(factor, Kc, Gff, lam_in, V, wanted, bound, max_modes=max_modes,

@@ -86,6 +86,7 @@ class Result:
 
     def summary(self) -> dict:
         f = self.fine
+        n_all = int(len(self.constraints.fixed))   # nodal DOFs plus appended warping DOFs
         return {
             "tool": "framebuckle",
             "source": self.input.source,
@@ -101,7 +102,9 @@ class Result:
                 "mesh_check": None if c.mesh_check is None else dict(c.mesh_check),
             } for c in self.cases],
             "model": {"nodes": int(self.input.frame.n_nodes), "elements": int(self.input.frame.n_elements),
-                      "dofs": int(f.n_dofs), "free_dofs": int(len(self.constraints.free)),
+                      "dofs": n_all, "free_dofs": int(len(self.constraints.free)),
+                      "fixed_dofs": int(self.constraints.fixed.sum()),
+                      "warping_dofs": n_all - int(f.n_dofs),
                       "fine_nodes": int(f.n_nodes), "fine_elements": int(f.n_elements),
                       "auto_restrained_rotations": int(self.constraints.n_auto),
                       "planar": None if self.constraints.planar_axis is None

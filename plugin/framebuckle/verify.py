@@ -6,8 +6,11 @@ case's result passes four checks (:func:`check_case`), otherwise a
 
 1. **convergence**: the load factors are finite, positive and ascending, no
    more than requested, and every mode is a finite, non-zero vector;
-2. **residuals**: :math:`\|(K + \lambda_i K_g)\phi_i\| / \|K\phi_i\|` below
-   :data:`RESIDUAL_TOL` (recomputed here, independent of the solver);
+2. **residuals**: :math:`\|W(K + \lambda_i K_g)\phi_i\| / \|W K\phi_i\|` below
+   :data:`RESIDUAL_TOL` (recomputed here, independent of the solver), weighted by
+   :math:`W = \mathrm{diag}(K)^{-1/2}` so that the measure does not depend on the units
+   (:func:`framebuckle.solve.relative_residuals`; the pipeline solves the scaled pencil
+   :math:`(DKD, DK_gD)`, whose diagonal scaling is the identity);
 3. **K-orthogonality**: :math:`|\phi_i^T K \phi_j| / \sqrt{(\phi_i^T K \phi_i)
    (\phi_j^T K \phi_j)}` below :data:`ORTHO_TOL` for distinct load factors
    (eigenvectors of a symmetric pencil with :math:`K` positive definite are
@@ -30,8 +33,10 @@ off-diagonal pivoting, whose ``U`` has the diagonal of :math:`D`
 permutations agree and a test solve is accurate, otherwise the dense
 factorization is used when affordable.
 
-:func:`stiffness_warnings` estimates the condition number of the free-free
-stiffness, :math:`\kappa_1(K) \approx \|K\|_1\,\mathrm{est}\|K^{-1}\|_1`
+:func:`stiffness_warnings` estimates the condition number of the symmetrically scaled
+free-free stiffness :math:`\tilde K = DKD`, :math:`D = \mathrm{diag}(K)^{-1/2}` (unit diagonal,
+the same in every set of units; van der Sluis 1969, Numer. Math. 14: this scaling is within a
+factor n of the best diagonal one), :math:`\kappa_1(\tilde K) \approx \|\tilde K\|_1\,\mathrm{est}\|\tilde K^{-1}\|_1`
 (Higham & Tisseur 2000, SIAM J. Matrix Anal. Appl. 21(4), block 1-norm
 estimator, ``scipy.sparse.linalg.onenormest``), and names the DOFs with the
 smallest pivot relative to their diagonal when it is large.
@@ -47,6 +52,7 @@ import scipy.sparse.linalg as spla
 from .errors import SolverError
 from .model import DOF_NAMES
 from .solve import RESIDUAL_TOL  # one tolerance for the solver and its independent check
+from .solve import relative_residuals, scale_matrix, symmetric_scaling
 
 #: largest normalised K-inner product of two modes with distinct load factors
 ORTHO_TOL = 1e-5
@@ -60,8 +66,9 @@ STURM_FAR = 1e3
 DENSE_STURM = 300
 #: free DOFs up to which the dense LDL^T is the fall-back of the sparse one
 DENSE_FALLBACK = 2000
-#: condition-number estimate of K above which a warning is given
-COND_WARN = 1e11
+#: condition-number estimate of the scaled K (unit diagonal) above which a warning is given:
+#: residuals of about eps * kappa (2e-7) are then close to what a stable solve can promise (1e-6)
+COND_WARN = 1e9
 
 
 #: free DOFs up to which a case whose iterative solution missed load factors is solved again densely
@@ -139,7 +146,7 @@ def check_case(Kff, Gff, er, k: int, source: str, case: str, sturm: bool = True)
         raise SolverError(f"{where}: mode {i + 1} is not a valid vector (not finite or zero)",
                           source=source)
     # 2. residuals
-    res = np.linalg.norm(KV + lam * (Gff @ V), axis=0) / np.maximum(np.linalg.norm(KV, axis=0), 1e-300)
+    res = relative_residuals(Kff, Gff, lam, V)
     if (res > RESIDUAL_TOL).any():
         i = int(np.argmax(res))
         raise SolverError(f"{where}: mode {i + 1} (load factor {lam[i]:.6g}) did not converge: "
@@ -286,32 +293,47 @@ class SturmWorker:
 
 
 def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=None,
-                       limit: int = 5) -> tuple[list, float]:
+                       limit: int = 5, scale=None) -> tuple[list, float]:
     r"""Warn when K is near-singular; name the DOFs and cells of its softest deformation.
 
-    The softest deformation is the eigenvector of the smallest eigenvalue of
-    :math:`K`, found by a few steps of inverse iteration with the existing
-    factorization; its DOFs are ranked by :math:`|x_i|\sqrt{K_{ii}}` (their share
-    of the strain energy) and, given the assembler ``asm``, its cells by their
-    strain energy :math:`u_e^T K_e u_e`.
+    Judged on the scaled :math:`\tilde K = W K W`, :math:`W = \mathrm{diag}(K)^{-1/2}`
+    (the identity when ``Kff`` is already scaled), so neither the condition number nor the
+    warning depends on the units.  ``scale``: physical DOFs are ``scale * x`` of ``Kff``'s
+    (the pipeline's :func:`framebuckle.solve.factorize` with ``scale=True``); None: ``Kff``
+    is in physical DOFs.  The softest deformation is the eigenvector of the smallest
+    eigenvalue of :math:`\tilde K`, found by a few steps of inverse iteration with the
+    existing factorization; its DOFs are ranked by its components (those of
+    :math:`|x_i|\sqrt{K_{ii}}`, their share of the strain energy) and, given the assembler
+    ``asm``, its cells by their strain energy :math:`u_e^T K_e u_e`.
     """
     n = Kff.shape[0]
     if n == 0:
         return [], 1.0
-    op = spla.LinearOperator((n, n), matvec=factor.solve, rmatvec=factor.solve,
-                             matmat=factor.solve, dtype=float)
-    try:
-        inv_norm = spla.onenormest(op) if n > 4 else np.abs(factor.solve(np.eye(n))).sum(0).max()
+    w = symmetric_scaling(Kff)
+
+    def solve(b):                        # (W K W)^-1 b = W^-1 K^-1 W^-1 b
+        b = np.asarray(b, float)
+        ww = w if b.ndim == 1 else w[:, None]
+        return factor.solve(b / ww) / ww
+
+    op = spla.LinearOperator((n, n), matvec=solve, rmatvec=solve, matmat=solve, dtype=float)
+    state = np.random.get_state()      # onenormest draws from numpy's global generator:
+    np.random.seed(0)                  # seeded here, so the estimate (and the warning) is
+    try:                               # the same in every run and every set of units
+        inv_norm = spla.onenormest(op) if n > 4 else np.abs(solve(np.eye(n))).sum(0).max()
     except Exception:          # the estimator is advisory; never stop a run for it
         return [], float("nan")
-    cond = float(spla.norm(Kff, 1) * inv_norm)
+    finally:
+        np.random.set_state(state)
+    cond = float(spla.norm(scale_matrix(Kff, w), 1) * inv_norm)
     if not np.isfinite(cond) or cond <= COND_WARN:
         return [], cond
     x = np.random.default_rng(0).standard_normal(n)
     for _ in range(8):
-        x = factor.solve(x)
+        x = solve(x)
         x /= np.linalg.norm(x)
-    share = np.abs(x) * np.sqrt(np.abs(Kff.diagonal()))
+    share = np.abs(x)
+    x = x * w if scale is None else x * w * scale    # physical displacements
     names = []
     n6 = asm.frame.n_dofs if asm is not None else np.inf
     for c in np.argsort(share)[::-1][:limit]:
@@ -338,7 +360,8 @@ def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=No
         top = top[per_cell[top] >= 0.1 * per_cell.sum()][:limit]
         if top.size:
             cells = f" The softest deformation strains mostly cell(s) {', '.join(str(int(c)) for c in top)}."
-    return [f"the stiffness matrix is near-singular (condition number about {cond:.1e}); results may "
+    return [f"the stiffness matrix is near-singular (condition number about {cond:.1e} with its diagonal "
+            f"scaled to 1); results may "
             f"be inaccurate. Weakest DOFs: {', '.join(dict.fromkeys(names))}.{cells} Probable cause: "
             f"a member far softer than its neighbours, a nearly-collinear bracing, or a "
             f"near-mechanism"], cond
