@@ -17,12 +17,14 @@ An :class:`OutputSet` is what one command writes.  Its rules:
 :func:`folder_lock` is held by a CLI command for its whole run: ``<out>/.framebuckle.lock``,
 created with ``O_EXCL``, holding ``pid host start-time``.  A second run into the same folder is
 refused while the first holds it; with ``--force`` it waits for the lock instead.  A lock whose
-process has ended (same host; pid gone or reused by another process) is stale and is taken over.
+process has ended (same host; pid gone or reused by another process) is stale and is taken over;
+the temporary files and backups the ended run left in the folder (:data:`DEBRIS`) are removed then.
 """
 
 from __future__ import annotations
 
 import os
+import re
 import socket
 import sys
 import tempfile
@@ -228,6 +230,25 @@ def _backup(target: Path) -> Path | None:
     return None
 
 
+#: names of the temporary files and backups of an OutputSet (``.<name>.<8 chars>.part<suffix>``,
+#: ``.<name>.<8 hex>.old``)
+DEBRIS = re.compile(r"^\..+\.[a-z0-9_]{8}\.part(\.[^.]*)?$|^\..+\.[0-9a-f]{8}\.old$")
+
+
+def remove_debris(folder: Path) -> list[str]:
+    """Remove the temporary files and backups a killed run left (called on a stale lock only)."""
+    gone = []
+    try:
+        entries = list(Path(folder).iterdir())
+    except OSError:
+        return gone
+    for e in entries:
+        if DEBRIS.match(e.name) and e.is_file() and not e.is_symlink():
+            _unlink(e)
+            gone.append(e.name)
+    return gone
+
+
 def _unlink(p):
     if p is None:
         return
@@ -337,6 +358,7 @@ def _acquire(lock: Path, force: bool, wait_note):
         alive = _owner_alive(text)
         if alive is False or (not text.strip() and age > EMPTY_LOCK_STALE):
             _unlink(lock)            # stale: its run has ended without removing it
+            remove_debris(lock.parent)
             continue
         who = f"pid {text.split()[0]} on {text.split()[1]}" if len(text.split()) >= 2 else "another run"
         if not force:
