@@ -187,9 +187,11 @@ def test_second_run_is_refused_while_the_first_holds_the_folder(tmp_path):
         second = run_cli(inp, "--out", out)
         assert second.returncode == 2 and "another framebuckle run" in second.stderr
         assert f"pid {first.pid}" in second.stderr
+        import time
         while first.poll() is None:              # let the first run finish, one pause per rename
             if flag.exists():
                 flag.unlink()
+            time.sleep(0.02)
         assert first.returncode == 0, first.communicate()
     finally:
         if first.poll() is None:
