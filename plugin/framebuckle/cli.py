@@ -318,13 +318,22 @@ def cmd_check(args) -> int:
 def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    previous = {}
     for sig in (signal.SIGTERM, getattr(signal, "SIGHUP", None)):   # SIGHUP: the terminal closed
         if sig is None:
             continue
         try:
-            signal.signal(sig, _terminate)
+            previous[sig] = signal.signal(sig, _terminate)
         except ValueError:        # not in the main thread (embedded use): keep the default
             pass
+    try:
+        return _run(args)
+    finally:                      # called in-process (tests, scripts): give the handlers back
+        for sig, h in previous.items():
+            signal.signal(sig, h if h is not None else signal.SIG_DFL)
+
+
+def _run(args) -> int:
     try:
         return int(args.func(args) or 0)
     except FrameBuckleError as exc:
