@@ -343,6 +343,35 @@ def out_is_file(t):
     return [m, "--out", f], ["results", "output folder"], [m, f]
 
 
+def result_file_as_input(t):
+    import pyvista as pv
+    g = pv.from_meshio(portal())
+    g.point_data["mode_1"] = np.zeros((g.n_points, 3))
+    g.field_data["framebuckle_result"] = np.array([1], np.int32)
+    g.field_data["load_factors.default"] = np.array([3.0])
+    p = t / "model.modes.vtu"
+    g.save(p)
+    return [p], ["model.modes.vtu", "framebuckle result file", "not the mesh of a linear run"], [p]
+
+
+def output_name_is_folder(t):
+    m = _vtu(t, portal())
+    (t / "res" / "model.summary.json").mkdir(parents=True)
+    return [m, "--out", t / "res"], ["model.summary.json", "taken by a folder"], [m]
+
+
+def output_links_to_input(t):
+    m = _vtu(t, portal())
+    (t / "res").mkdir()
+    (t / "res" / "model.modes_fine.vtu").symlink_to(m)
+    return [m, "--out", t / "res", "--force"], ["model.modes_fine.vtu", "refusing to overwrite the input"], [m]
+
+
+def output_name_too_long(t):
+    m = _vtu(t, portal(), name="m" * 236 + ".vtu")
+    return [m], ["modes.vtu", "file name is"], [m]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -353,7 +382,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
              study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
              checks_member_share_out_of_range,
-             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign]
+             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign,
+             result_file_as_input, output_name_is_folder, output_links_to_input, output_name_too_long]
 
 
 def test_catalogue_is_large_enough():

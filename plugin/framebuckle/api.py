@@ -84,6 +84,9 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         raise InputError(f"unknown eigensolver '{meth}' (auto, dense, arpack, block)", source=st.source)
 
     t0 = time.perf_counter()
+    if isinstance(inp, (str, Path)):
+        from .write import refuse_result_file
+        refuse_result_file(inp)
     im = inp if isinstance(inp, InputModel) else read_input(inp, st)
     t_read = time.perf_counter() - t0
     options = {"preload": _preload.parse(preload, st, im.cases, im.source),

@@ -210,11 +210,14 @@ def table_csv(rows) -> str:
 
 def write_table(rows, out_dir, force: bool = True) -> dict:
     from .results import CAUTIONS
-    from .write import prepare_dir, write_json, write_text
+    from .outputs import OutputSet
+    from .write import json_text, prepare_dir
     out = prepare_dir(Path(out_dir))
     paths = {"csv": out / "batch.csv", "json": out / "batch.json"}
-    write_text(paths["csv"], table_csv(rows), force)
-    write_json(paths["json"], {"tool": "framebuckle", "columns": list(COLUMNS),
-                               "rows": [{k: r.get(k) for k in COLUMNS} for r in rows],
-                               "cautions": list(CAUTIONS)}, force)
+    with OutputSet(force).add_all(paths.values()) as outs:      # both or neither
+        outs.write_text(paths["csv"], table_csv(rows))
+        outs.write_text(paths["json"], json_text({"tool": "framebuckle", "columns": list(COLUMNS),
+                                                  "rows": [{k: r.get(k) for k in COLUMNS} for r in rows],
+                                                  "cautions": list(CAUTIONS)}))
+        outs.commit()
     return paths

@@ -465,8 +465,8 @@ def format_table(report: CheckReport) -> str:
 
 def write_check(result, report: CheckReport, out_dir, force: bool = False) -> dict:
     """Write modes (with member cell fields), fine modes, summary, members CSV, imperfect mesh."""
-    from .write import (fine_grid, input_grid, output_stem, prepare_dir, write_grid, write_json,
-                        write_text)
+    from .outputs import OutputSet
+    from .write import fine_grid, input_grid, json_text, output_stem, prepare_dir, vtu_bytes
     out = prepare_dir(Path(out_dir))
     stem = output_stem(result.input.source)
     src = result.input.source
@@ -475,10 +475,7 @@ def write_check(result, report: CheckReport, out_dir, force: bool = False) -> di
              "summary": out / f"{stem}.summary.json", "members": out / f"{stem}.members.csv"}
     if report.imperfection_mode is not None:
         paths["imperfect"] = out / f"{stem}.imperfect.vtu"
-    if not force:
-        for p in paths.values():
-            if p.exists():
-                raise OutputError("output exists; use --force to replace it", source=str(p))
+    outs = OutputSet(force, protect).add_all(paths.values())    # every target checked first
     grid = input_grid(result)
     if grid.n_cells != result.input.n_cells:
         raise OutputError(f"the output mesh has {grid.n_cells} cells, the input {result.input.n_cells}",
@@ -492,11 +489,13 @@ def write_check(result, report: CheckReport, out_dir, force: bool = False) -> di
         report.imperfection["largest_translation_at_input_points"] = moved
         if note:
             report.imperfection["note"] = note
-    write_grid(grid, paths["modes"], True, protect)
-    write_grid(fine_grid(result), paths["modes_fine"], True, protect)
-    write_text(paths["members"], members_csv(report.rows), True, protect)
-    if report.imperfection_mode is not None:
-        write_grid(igrid, paths["imperfect"], True, protect)
-    summary["outputs"] = {k: str(v) for k, v in paths.items()}
-    write_json(paths["summary"], summary, True, protect)
+    with outs:                    # all or nothing
+        outs.write_bytes(paths["modes"], vtu_bytes(grid))
+        outs.write_bytes(paths["modes_fine"], vtu_bytes(fine_grid(result)))
+        outs.write_text(paths["members"], members_csv(report.rows))
+        if report.imperfection_mode is not None:
+            outs.write_bytes(paths["imperfect"], vtu_bytes(igrid))
+        summary["outputs"] = {k: str(v) for k, v in paths.items()}
+        outs.write_text(paths["summary"], json_text(summary))
+        outs.commit()
     return paths

@@ -104,28 +104,23 @@ def _window(text):
 
 def cmd_render(args) -> int:
     from .errors import InputError
+    from .outputs import folder_lock
     from .progress import Progress
-    from .render import picture_name, render_all
+    from .render import gl_probe, render_all
     from .viewer import load_modes, result_stem
-    from .write import prepare_dir
     if args.scale is not None and not (args.scale >= 0 and args.scale < float("inf")):
         raise InputError(f"--scale must be a finite number >= 0, got {args.scale}")
-    with Progress(0, "solve") as bar:
-        ms, result = load_modes(args.input, args.study, args.modes, args.subdivide, progress=bar)
-    out = prepare_dir(Path(args.out))
-    stem = result_stem(args.input)
-    cases = args.case or [c.name for c in ms.cases if len(c.load_factors)]
-    if not cases:
-        raise InputError("no load case has a buckling mode to draw: "
-                         + "; ".join(f"{c.name}: {c.message}" for c in ms.cases), source=ms.source)
-    if not args.force:
-        from .errors import OutputError
-        for c in cases:
-            for ext in ("png", "gif") if args.animate else ("png",):
-                t = out / picture_name(stem, c, args.mode, ext)
-                if t.exists():
-                    raise OutputError("output exists; use --force to replace it", source=str(t))
-    paths = render_all(ms, out, stem, cases, (args.mode,), args.scale, args.animate, args.window)
+    gl_probe()                      # no GL: the documented error now, not a crash after the solve
+    with folder_lock(args.out, args.force) as out:
+        with Progress(0, "solve") as bar:
+            ms, result = load_modes(args.input, args.study, args.modes, args.subdivide, progress=bar)
+        stem = result_stem(args.input)
+        cases = args.case or [c.name for c in ms.cases if len(c.load_factors)]
+        if not cases:
+            raise InputError("no load case has a buckling mode to draw: "
+                             + "; ".join(f"{c.name}: {c.message}" for c in ms.cases), source=ms.source)
+        paths = render_all(ms, out, stem, cases, (args.mode,), args.scale, args.animate, args.window,
+                           force=args.force, protect=[args.input])
     for c in cases:
         case = ms.case(c)
         print(f"{c}: mode {args.mode}, load factor {case.load_factors[args.mode - 1]:.4g} "
@@ -152,16 +147,30 @@ def cmd_view(args) -> int:
 
 def cmd_report(args) -> int:
     from .api import solve
+    from .outputs import folder_lock
     from .progress import Progress
     from .report import make_report
     from .study import load_study
+    from .write import output_stem
     study = load_study(args.study) if args.study else None
-    with Progress(0, "solve") as bar:
-        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
-                       sturm_worker=True, progress=bar)
-    path = make_report(result, Path(args.out), study=study, force=args.force)
+    with folder_lock(args.out, args.force) as out:
+        _precheck(out, [f"{output_stem(args.input)}.report.html"], args)
+        with Progress(0, "solve") as bar:
+            result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
+                           sturm_worker=True, progress=bar)
+        skipped = []
+        path = make_report(result, out, study=study, force=args.force, skipped=skipped)
     print_result(result, {"report": path})
+    for why in skipped:
+        print(f"framebuckle: warning: the report was written without pictures: {why}", file=sys.stderr)
     return 0
+
+
+def _precheck(out, names, args):
+    """Refuse unusable output targets before the solve (they are checked again when written)."""
+    from .outputs import check_target
+    for n in names:
+        check_target(out / n, args.force, [args.input])
 
 
 def _common(s):
@@ -207,14 +216,18 @@ def print_result(result, paths, stream=None):
 def cmd_solve(args) -> int:
     import time
     from .api import solve
+    from .outputs import folder_lock
     from .progress import Progress
-    from .write import write_result
-    with Progress(0, "solve") as bar:      # drawn only on a terminal
-        result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide,
-                       sturm_worker=True, progress=bar)
-    t = time.perf_counter()
-    paths = write_result(result, Path(args.out), force=args.force)
-    result.timings["write"] = time.perf_counter() - t
+    from .write import output_stem, write_result
+    with folder_lock(args.out, args.force) as out:
+        stem = output_stem(args.input)
+        _precheck(out, [f"{stem}.modes.vtu", f"{stem}.modes_fine.vtu", f"{stem}.summary.json"], args)
+        with Progress(0, "solve") as bar:      # drawn only on a terminal
+            result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide,
+                           sturm_worker=True, progress=bar)
+        t = time.perf_counter()
+        paths = write_result(result, out, force=args.force)
+        result.timings["write"] = time.perf_counter() - t
     print_result(result, paths)
     if getattr(args, "timings", False):
         tm = result.timings
@@ -228,16 +241,15 @@ def cmd_solve(args) -> int:
 
 def cmd_batch(args) -> int:
     from .batch import expand_inputs, run_batch, write_table
+    from .outputs import check_target, folder_lock
     from .progress import Progress
-    from .write import prepare_dir
-    from .errors import OutputError
-    out = prepare_dir(Path(args.out))
-    if not args.force and ((out / "batch.csv").exists() or (out / "batch.json").exists()):
-        raise OutputError("output exists; use --force to replace it", source=str(out / "batch.csv"))
-    with Progress(len(expand_inputs(args.inputs)), "batch") as bar:   # drawn only on a terminal
-        rows = run_batch(args.inputs, args.study, scheduler=args.scheduler, workers=args.workers,
-                         modes=args.modes, subdivide=args.subdivide, progress=bar)
-    paths = write_table(rows, out, force=True)
+    with folder_lock(args.out, args.force) as out:
+        for n in ("batch.csv", "batch.json"):
+            check_target(out / n, args.force)
+        with Progress(len(expand_inputs(args.inputs)), "batch") as bar:   # drawn only on a terminal
+            rows = run_batch(args.inputs, args.study, scheduler=args.scheduler, workers=args.workers,
+                             modes=args.modes, subdivide=args.subdivide, progress=bar)
+        paths = write_table(rows, out, force=args.force)
     w = max([4] + [len(str(r["file"])) for r in rows])
     print(f"{'file':<{w}}  {'case':<16} {'alpha_cr':>10}  {'verdict':<8} governing member / error")
     for r in rows:
@@ -256,7 +268,7 @@ def cmd_batch(args) -> int:
 
 
 def _terminate(signum, frame):
-    raise KeyboardInterrupt   # SIGTERM: unwind like Ctrl-C so temporary outputs are removed
+    raise KeyboardInterrupt   # SIGTERM, SIGHUP: unwind like Ctrl-C so temporary outputs are removed
 
 
 def cmd_check(args) -> int:
@@ -266,14 +278,20 @@ def cmd_check(args) -> int:
     from .api import _as_study, solve
     from .check import format_table, run_check, write_check
     from .write import _jsonable
+    from .outputs import folder_lock
+    from .write import output_stem
     study = _as_study(args.study)
-    result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
-    report = run_check(result, study, args.min_alpha)
-    paths = write_check(result, report, Path(args.out), force=args.force)
-    for w in result.warnings:
-        print(f"framebuckle: warning: {w}", file=sys.stderr)
-    if report.summary["check"].get("sign_convention"):
-        print(f"framebuckle: {report.summary['check']['sign_convention']}", file=sys.stderr)
+    with folder_lock(args.out, args.force) as out:
+        stem = output_stem(args.input)
+        _precheck(out, [f"{stem}.{x}" for x in ("modes.vtu", "modes_fine.vtu", "summary.json",
+                                                  "members.csv")], args)
+        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
+        report = run_check(result, study, args.min_alpha)
+        paths = write_check(result, report, out, force=args.force)
+        for w in result.warnings:
+            print(f"framebuckle: warning: {w}", file=sys.stderr)
+        if report.summary["check"].get("sign_convention"):
+            print(f"framebuckle: {report.summary['check']['sign_convention']}", file=sys.stderr)
     if args.json:
         json.dump(report.summary, sys.stdout, indent=2, default=_jsonable)
         print()
@@ -304,10 +322,22 @@ def cmd_check(args) -> int:
 def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    previous = {}
+    for sig in (signal.SIGTERM, getattr(signal, "SIGHUP", None)):   # SIGHUP: the terminal closed
+        if sig is None:
+            continue
+        try:
+            previous[sig] = signal.signal(sig, _terminate)
+        except ValueError:        # not in the main thread (embedded use): keep the default
+            pass
     try:
-        signal.signal(signal.SIGTERM, _terminate)
-    except ValueError:        # not in the main thread (embedded use): keep the default
-        pass
+        return _run(args)
+    finally:                      # called in-process (tests, scripts): give the handlers back
+        for sig, h in previous.items():
+            signal.signal(sig, h if h is not None else signal.SIG_DFL)
+
+
+def _run(args) -> int:
     try:
         return int(args.func(args) or 0)
     except FrameBuckleError as exc:
@@ -321,8 +351,16 @@ def main(argv=None) -> int:
             pass
         return 141                  # what a process ended by SIGPIPE reports
     except KeyboardInterrupt:
-        print("framebuckle: interrupted; no partial output was left", file=sys.stderr)
+        try:
+            print("framebuckle: interrupted; no partial output was left", file=sys.stderr)
+        except OSError:              # SIGHUP: the terminal may be gone
+            pass
         return 130
+    except OSError as exc:           # a file error no stage turned into a message: still no traceback
+        from .outputs import os_message
+        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
+        print(f"framebuckle: error: {where}{os_message(exc)}", file=sys.stderr)
+        return 2
 
 
 if __name__ == "__main__":

@@ -12,7 +12,11 @@ the mode number, its load factor and alpha_cr (the case's lowest).
 
 Without a display, VTK's EGL (or OSMesa) window is chosen before the first
 window is made (:func:`prepare_offscreen`), which needs only the system's
-GL libraries (Debian: ``libegl1``, ``libgl1-mesa-dri``); no X server.
+GL libraries (Debian: ``libegl1``, ``libgl1-mesa-dri``); no X server.  Before the
+first window of a process, :func:`gl_probe` makes one off-screen window and
+draws one frame in a child process: without working GL (or with a window class
+that cannot load) VTK crashes the process, so the crash happens in the child
+and the command ends with a clear :class:`OutputError` instead.
 """
 
 from __future__ import annotations
@@ -104,8 +108,54 @@ def title(case, k: int) -> str:
     return t
 
 
+#: a child process that makes an off-screen window and draws one frame (exit 0 = GL works)
+PROBE = """
+import sys
+import pyvista as pv
+p = pv.Plotter(off_screen=True, window_size=[64, 64])
+p.add_mesh(pv.Sphere())
+img = p.screenshot(return_img=True)
+p.close()
+sys.exit(0 if img is not None and tuple(img.shape[:2]) == (64, 64) else 3)
+"""
+#: longest wait for the probe [s] (it imports VTK and starts the renderer)
+PROBE_TIMEOUT = 180.0
+_PROBED: dict = {}
+GL_HINT = ("install the system GL libraries (Debian/Ubuntu: apt-get install libegl1 libegl-mesa0 "
+           "libgl1-mesa-dri), or unset VTK_DEFAULT_OPENGL_WINDOW if it names a window class that "
+           "cannot load")
+
+
+def gl_probe() -> None:
+    """Raise OutputError unless an off-screen window can be made and drawn (checked once per
+    process, in a child process, with the window class :func:`prepare_offscreen` chose)."""
+    import signal
+    import subprocess
+    window = prepare_offscreen()
+    key = window or ""
+    if key not in _PROBED:
+        why = None
+        try:
+            r = subprocess.run([sys.executable, "-c", PROBE], capture_output=True, text=True,
+                               timeout=PROBE_TIMEOUT, env=dict(os.environ))
+            if r.returncode < 0:
+                why = f"a test window crashed with {signal.Signals(-r.returncode).name}"
+            elif r.returncode:
+                tail = [ln for ln in r.stderr.splitlines() if ln.strip()][-1:]
+                why = f"a test window failed (exit {r.returncode}{': ' + tail[0][:200] if tail else ''})"
+        except subprocess.TimeoutExpired:
+            why = f"a test window did not draw within {PROBE_TIMEOUT:.0f} s"
+        except OSError as exc:
+            why = f"cannot start the test window process ({exc})"
+        _PROBED[key] = why
+    if _PROBED[key]:
+        raise OutputError(f"cannot open an off-screen render window ({_PROBED[key]}"
+                          f"{', window class ' + window if window else ''}); {GL_HINT}",
+                          source="render")
+
+
 def _plotter(shape=(1, 1), window=WINDOW):
-    prepare_offscreen()
+    gl_probe()
     import pyvista as pv
     try:
         return pv.Plotter(off_screen=True, shape=shape, window_size=list(window), border=True)
@@ -161,17 +211,40 @@ def render_mode(ms, case=None, k: int = 1, path=None, scale=None, window=WINDOW,
             _camera(p, view)
         if return_img:
             return p.screenshot(return_img=True)
-        path = Path(path)
-        with atomic_path(path) as tmp:
-            p.screenshot(str(tmp))
-        return path
+        img = p.screenshot(return_img=True)
     finally:
         p.close()
+    path = Path(path)
+    data = png_bytes(img)
+    with atomic_path(path) as tmp:
+        tmp.write_bytes(data)
+    return path
+
+
+def png_bytes(img: np.ndarray) -> bytes:
+    import io
+
+    from PIL import Image
+    buf = io.BytesIO()
+    Image.fromarray(img).save(buf, format="PNG", optimize=True)
+    return buf.getvalue()
 
 
 def animate_mode(ms, case=None, k: int = 1, path=None, scale=None, frames: int = 16,
                  window=(480, 360)) -> Path:
     """Write a looping GIF of mode ``k`` swinging between +/- its scaled shape (Pillow)."""
+    data = animation_bytes(ms, case, k, scale, frames, window)
+    path = Path(path)
+    with atomic_path(path) as tmp:
+        tmp.write_bytes(data)
+    return path
+
+
+def animation_bytes(ms, case=None, k: int = 1, scale=None, frames: int = 16,
+                    window=(480, 360)) -> bytes:
+    """A looping GIF (bytes) of mode ``k`` swinging between +/- its scaled shape (Pillow)."""
+    import io
+
     from PIL import Image
     c, mode = ms.mode(case, k)
     base, curve, s = shape_meshes(ms, mode, scale)
@@ -192,11 +265,9 @@ def animate_mode(ms, case=None, k: int = 1, path=None, scale=None, frames: int =
             images.append(Image.fromarray(p.screenshot(return_img=True)))
     finally:
         p.close()
-    path = Path(path)
-    with atomic_path(path) as tmp:
-        images[0].save(tmp, format="GIF", save_all=True, append_images=images[1:],
-                       duration=80, loop=0)
-    return path
+    buf = io.BytesIO()
+    images[0].save(buf, format="GIF", save_all=True, append_images=images[1:], duration=80, loop=0)
+    return buf.getvalue()
 
 
 def _bounds(pts, d):
@@ -213,21 +284,63 @@ def picture_name(stem: str, case: str, k: int, ext: str = "png") -> str:
     return f"{stem}.{safe_name(case)}.mode{k}.{ext}"
 
 
+def picture_names(stem: str, cases, k: int, ext: str = "png") -> dict:
+    """Case -> picture name, unique even where cleaned names collide.
+
+    Case names that clean to the same text (``a/b`` and ``a_b``; also ``A`` and ``a``, one file on
+    a case-insensitive file system) get ``~`` and 8 hex digits of the SHA-1 of the case name
+    appended to the cleaned name, so every picture keeps its own file and the name stays the
+    same from run to run.
+    """
+    import hashlib
+    cases = list(dict.fromkeys(cases))
+    clean = {c: safe_name(c) for c in cases}
+    seen: dict = {}
+    for c in cases:
+        seen.setdefault(clean[c].lower(), []).append(c)
+    out = {}
+    for c in cases:
+        name = clean[c]
+        if len(seen[name.lower()]) > 1:
+            name += "~" + hashlib.sha1(str(c).encode("utf-8")).hexdigest()[:8]
+        out[c] = f"{stem}.{name}.mode{k}.{ext}"
+    return out
+
+
 def render_all(ms, out_dir, stem, cases=None, modes=(1,), scale=None, animate=False,
-               window=WINDOW, progress=None) -> list[Path]:
-    """Pictures (and GIFs) of ``modes`` of every case in ``cases`` (default all with modes)."""
+               window=WINDOW, progress=None, force: bool = True, protect=()) -> list[Path]:
+    """Pictures (and GIFs) of ``modes`` of every case in ``cases`` (default all with modes).
+
+    All or nothing: every target is checked (and the GL probe run) before the first picture is
+    drawn, and the files are renamed into place together at the end.
+    """
+    from .outputs import OutputSet
     from .progress import Progress
     out = Path(out_dir)
     chosen = [ms.case(n) for n in cases] if cases else [c for c in ms.cases if len(c.load_factors)]
     jobs = [(c, k) for c in chosen for k in (modes or range(1, len(c.load_factors) + 1))]
     for c, k in jobs:    # validate everything before writing anything
         ms.mode(c.name, k)
+    names = {}
+    for k in {k for _, k in jobs}:
+        for ext in ("png", "gif") if animate else ("png",):
+            for c, name in picture_names(stem, [c.name for c, kk in jobs if kk == k], k, ext).items():
+                names[(c, k, ext)] = out / name
     paths = []
-    with (progress or Progress(len(jobs) * (2 if animate else 1), "render")) as bar:
+    with OutputSet(force, protect) as outs:
         for c, k in jobs:
-            paths.append(render_mode(ms, c.name, k, out / picture_name(stem, c.name, k), scale, window))
-            bar.step(f"{c.name} mode {k}")
+            outs.add(names[(c.name, k, "png")])
             if animate:
-                paths.append(animate_mode(ms, c.name, k, out / picture_name(stem, c.name, k, "gif"), scale))
-                bar.step(f"{c.name} mode {k} animation")
+                outs.add(names[(c.name, k, "gif")])
+        gl_probe()
+        with (progress or Progress(len(jobs) * (2 if animate else 1), "render")) as bar:
+            for c, k in jobs:
+                img = render_mode(ms, c.name, k, scale=scale, window=window, return_img=True)
+                paths.append(outs.write_bytes(names[(c.name, k, "png")], png_bytes(img)))
+                bar.step(f"{c.name} mode {k}")
+                if animate:
+                    paths.append(outs.write_bytes(names[(c.name, k, "gif")],
+                                                  animation_bytes(ms, c.name, k, scale)))
+                    bar.step(f"{c.name} mode {k} animation")
+        outs.commit()
     return paths

@@ -140,10 +140,12 @@ def _check(result, study):
 # ---------------------------------------------------------------- document
 
 
-def build_html(result, pictures: dict, plots: list, check=None, when: str | None = None) -> str:
+def build_html(result, pictures: dict, plots: list, check=None, when: str | None = None,
+               no_pictures: str | None = None) -> str:
     """The report as one HTML string.
 
-    ``pictures``: case name -> PNG bytes of its first mode; ``plots``: (title, PNG bytes, caption).
+    ``pictures``: case name -> PNG bytes of its first mode; ``plots``: (title, PNG bytes, caption);
+    ``no_pictures``: why the mode pictures are missing (said in the report), if they are.
     """
     from .plots import BAND_COLOURS
     s = result.summary()
@@ -252,6 +254,9 @@ def build_html(result, pictures: dict, plots: list, check=None, when: str | None
       "(mode normalised to a largest node translation of 1, drawn at about 10 % of the model size). "
       "Members are drawn as the cubic curves of the analysis, so a member bowing between its joints "
       "shows.</p>")
+    if no_pictures:
+        w(f'<p class="caution" id="no-pictures"><b>No pictures of the modes in this report:</b> '
+          f"{_e(no_pictures)}. The load factors, members and plots above and below are complete.</p>")
     for c in result.cases:
         png = pictures.get(c.name)
         if png is None:
@@ -331,8 +336,12 @@ def _cautions(w):
 
 
 def make_report(result, out_dir, stem: str | None = None, study=None, force: bool = True,
-                window=(1000, 750), progress=None) -> Path:
-    """Render the pictures and plots, assemble and write ``<stem>.report.html``; return its path."""
+                window=(1000, 750), progress=None, skipped: list | None = None) -> Path:
+    """Render the pictures and plots, assemble and write ``<stem>.report.html``; return its path.
+
+    When no off-screen window can be made (:func:`framebuckle.render.gl_probe`) the report is
+    written without the mode pictures, says so, and the reason is appended to ``skipped``.
+    """
     from . import plots as pl
     from . import render
     from .progress import Progress
@@ -340,15 +349,24 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
     from .write import output_stem, prepare_dir, write_text
     out = prepare_dir(Path(out_dir))
     stem = stem or output_stem(result.input.source)
+    from .errors import OutputError
+    from .outputs import check_target
     target = out / f"{stem}.report.html"
     protect = [result.input.source] if result.input.source and not result.input.source.startswith("<") else []
-    if target.exists() and not force:
-        from .errors import OutputError
-        raise OutputError("output exists; use --force to replace it", source=str(target))
+    check_target(target, force, protect)       # before any drawing
     check = _check(result, study)
     ms = from_result(result)
     with_modes = [c for c in result.cases if c.alpha_cr is not None]
     pictures = {}
+    no_pictures = None
+    if with_modes:
+        try:
+            render.gl_probe()
+        except OutputError as exc:
+            no_pictures = str(exc).split(": ", 1)[-1]
+            with_modes = []
+            if skipped is not None:
+                skipped.append(no_pictures)
     with (progress or Progress(len(with_modes) + 2, "report")) as bar:
         for c in with_modes:
             img = render.render_mode(ms, c.name, 1, scale=None, window=window, return_img=True)
@@ -363,7 +381,7 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
         if member:
             figs.append(member)
         bar.step("plots")
-    write_text(target, build_html(result, pictures, figs, check), True, protect)
+    write_text(target, build_html(result, pictures, figs, check, no_pictures=no_pictures), True, protect)
     return target
 
 

@@ -179,8 +179,9 @@ def from_grid(grid, source: str = "<grid>") -> ModeSet:
     """
     fd = grid.field_data
     names = [k[len("load_factors."):] for k in fd.keys() if k.startswith("load_factors.")]
-    if "case_names" in fd.keys():
-        order = [str(x) for x in np.asarray(fd["case_names"]).ravel()]
+    from .write import case_names
+    order = case_names(fd)
+    if order is not None:
         names = [n for n in order if n in names] + [n for n in names if n not in order]
     if not names:
         raise InputError("not a framebuckle result: no field data 'load_factors.<case>'", source=source)
@@ -195,6 +196,7 @@ def from_grid(grid, source: str = "<grid>") -> ModeSet:
     cases = []
     for name in names:
         lam = np.asarray(fd[f"load_factors.{name}"], float).ravel()
+        _finite(lam, f"field data 'load_factors.{name}'", source)
         modes = []
         for k in range(1, len(lam) + 1):
             tr = _point_field(grid, k, name, single, False, source)
@@ -209,12 +211,23 @@ def from_grid(grid, source: str = "<grid>") -> ModeSet:
                    source, np.asarray(cell_id, np.int64))
 
 
+def _finite(a, what, source):
+    """A result with NaN or infinite values is damaged: refuse it rather than draw it."""
+    bad = ~np.isfinite(a)
+    if bad.any():
+        first = int(np.flatnonzero(bad.reshape(len(a), -1).any(axis=-1))[0])
+        raise InputError(f"{what} has {int(bad.sum())} NaN or infinite value(s) (first at "
+                         f"{'point' if a.ndim > 1 else 'entry'} {first}): not a valid result, "
+                         f"solve the input again", source=source)
+
+
 def _point_field(grid, k, case, single, rotation, source):
     base = f"mode_{k}" + ("_rotation" if rotation else "")
     for name in ([base] if single and case == "default" else []) + [f"{base}.{case}"]:
         if name in grid.point_data.keys():
             a = np.asarray(grid.point_data[name], float)
             if a.shape == (grid.n_points, 3):
+                _finite(a, f"point field '{name}'", source)
                 return a
             raise InputError(f"point field '{name}' must have 3 components, got shape {a.shape}",
                              source=source)

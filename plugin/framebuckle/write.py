@@ -2,9 +2,11 @@
 
 Every output is written to a temporary file in the target folder and renamed
 into place, so an interrupted run leaves either the old file or the complete
-new one.  Inputs are never written.  VTU files are written through PyVista
-(VTK's own writer keeps field data, which meshio's VTU writer drops), from a
-copy of the input mesh.
+new one.  Inputs are never written.  VTU files are written with VTK's XML
+writer (it keeps field data, which meshio's VTU writer drops) into memory and
+then to the file by Python, so a full disk is an ``OSError`` and never an abort
+inside VTK.  A command's outputs are written together, all or nothing
+(:class:`framebuckle.outputs.OutputSet`).
 """
 
 from __future__ import annotations
@@ -12,7 +14,6 @@ from __future__ import annotations
 import copy
 import json
 import os
-import tempfile
 from contextlib import contextmanager
 from pathlib import Path
 
@@ -24,27 +25,21 @@ from .errors import OutputError
 @contextmanager
 def atomic_path(target: Path, force: bool = True, protect=()):
     """Yield a temporary path next to ``target``; rename it into place on success."""
+    from .outputs import _tmp_for, check_target, os_message
     target = Path(target)
-    for p in protect:
-        try:
-            if Path(p).resolve() == target.resolve():
-                raise OutputError("refusing to overwrite the input file", source=str(target))
-        except OSError:
-            pass
-    if target.exists() and not force:
-        raise OutputError("output exists; use --force to replace it", source=str(target))
+    check_target(target, force, protect)
     try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.stem}.", suffix=".part" + target.suffix,
-                                   dir=target.parent)
-        os.close(fd)
-        _default_mode(tmp)
+        tmp = _tmp_for(target)
     except OSError as exc:
-        raise OutputError(f"cannot write in the output folder: {exc.strerror or exc}",
+        raise OutputError(f"cannot write in the output folder: {os_message(exc)}",
                           source=str(target.parent)) from None
     try:
-        yield Path(tmp)
-        _pause_hook(Path(tmp), target)
-        os.replace(tmp, target)
+        try:
+            yield Path(tmp)
+            _pause_hook(Path(tmp), target)
+            os.replace(tmp, target)
+        except OSError as exc:
+            raise OutputError(f"cannot write the output: {os_message(exc)}", source=str(target)) from None
     except BaseException:
         try:
             os.unlink(tmp)
@@ -70,22 +65,15 @@ def _pause_hook(tmp: Path, target: Path):
         time.sleep(0.02)
 
 
-def _default_mode(path):
-    """Give a new output the permissions of a normally created file (mkstemp makes it 0600)."""
-    mask = os.umask(0o22)
-    os.umask(mask)
-    try:
-        os.chmod(path, 0o666 & ~mask)
-    except OSError:
-        pass
-
-
 def prepare_dir(out: Path) -> Path:
     out = Path(out)
     try:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
-        raise OutputError(f"cannot create the output folder: {exc.strerror or exc}", source=str(out)) from None
+        from .outputs import os_message
+        raise OutputError(f"cannot create the output folder: {os_message(exc)}", source=str(out)) from None
+    if not out.is_dir():
+        raise OutputError("the output folder is not a folder", source=str(out))
     if not os.access(out, os.W_OK):
         raise OutputError("the output folder is not writable", source=str(out))
     return out
@@ -97,7 +85,7 @@ def write_text(target: Path, text: str, force: bool = True, protect=()):
 
 
 def write_json(target: Path, data, force: bool = True, protect=()):
-    write_text(target, json.dumps(data, indent=2, default=_jsonable) + "\n", force, protect)
+    write_text(target, json_text(data), force, protect)
 
 
 def _jsonable(o):
@@ -151,34 +139,115 @@ def fine_grid(result):
     return grid
 
 
+#: field data marking a file written by framebuckle (value: the layout version)
+RESULT_MARK = "framebuckle_result"
+
+
 def add_field_data(grid, result):
-    grid.field_data["case_names"] = np.array([c.name for c in result.cases])
+    """Load factors per case, the case order and the result mark, all numeric field data.
+
+    Case names are stored as ``case_names_utf8``: the UTF-8 bytes of the names, each ended by a
+    0 byte (uint8), because meshio's VTU reader refuses string arrays; ``case_names`` (strings)
+    of older files is still read (:func:`case_names`).
+    """
+    grid.field_data[RESULT_MARK] = np.array([1], np.int32)
+    grid.field_data["case_names_utf8"] = encode_names([c.name for c in result.cases])
     for c in result.cases:
         grid.field_data[f"load_factors.{c.name}"] = np.asarray(c.load_factors, float)
 
 
+def encode_names(names) -> np.ndarray:
+    return np.frombuffer(b"".join(str(n).encode("utf-8") + b"\0" for n in names), np.uint8).copy()
+
+
+def case_names(field_data) -> list[str] | None:
+    """Case order stored in a result's field data (new uint8 or old string form), else None."""
+    keys = list(field_data.keys())
+    if "case_names_utf8" in keys:
+        raw = np.asarray(field_data["case_names_utf8"]).astype(np.uint8).tobytes()
+        return [x.decode("utf-8", "replace") for x in raw.split(b"\0")[:-1]]
+    if "case_names" in keys:
+        return [str(x) for x in np.asarray(field_data["case_names"]).ravel()]
+    return None
+
+
+def vtu_bytes(grid) -> bytes:
+    """The grid as a VTU file in memory (raw appended binary, no compression)."""
+    from vtkmodules.vtkIOXML import vtkXMLUnstructuredGridWriter
+    w = vtkXMLUnstructuredGridWriter()
+    w.SetInputData(grid)
+    # raw binary, not zlib: 3-4 x faster to write for about 20 % more bytes (mode shapes
+    # compress poorly); any VTK XML reader and meshio read it, no decompressor needed
+    w.SetDataModeToAppended()
+    w.EncodeAppendedDataOff()
+    w.SetCompressorTypeToNone()
+    w.WriteToOutputStringOn()
+    if not w.Write():
+        raise OutputError("VTK could not encode the output mesh")
+    data = w.GetOutputString()
+    return data if isinstance(data, bytes) else data.encode("utf-8", "surrogateescape")
+
+
 def write_grid(grid, target: Path, force=True, protect=()):
+    data = vtu_bytes(grid)
     with atomic_path(target, force, protect) as tmp:
-        # raw binary, not zlib: 3-4 x faster to write for about 20 % more bytes (mode
-        # shapes compress poorly); any VTK XML reader reads it, no decompressor needed
-        grid.save(str(tmp), binary=True, compression=None)
+        tmp.write_bytes(data)
+
+
+def protected_inputs(result) -> list[str]:
+    src = result.input.source
+    return [src] if src and not src.startswith("<") else []
 
 
 def write_result(result, out_dir, stem: str | None = None, force: bool = True) -> dict:
-    """Write ``<stem>.modes.vtu``, ``<stem>.modes_fine.vtu`` and ``<stem>.summary.json``."""
+    """Write ``<stem>.modes.vtu``, ``<stem>.modes_fine.vtu`` and ``<stem>.summary.json``.
+
+    All three or none (:class:`framebuckle.outputs.OutputSet`); every target is checked first.
+    """
+    from .outputs import OutputSet
     out = prepare_dir(Path(out_dir))
     stem = stem or output_stem(result.input.source)
-    protect = [result.input.source] if result.input.source and not result.input.source.startswith("<") else []
     paths = {"modes": out / f"{stem}.modes.vtu", "modes_fine": out / f"{stem}.modes_fine.vtu",
              "summary": out / f"{stem}.summary.json"}
-    if not force:
-        for p in paths.values():
-            if p.exists():
-                raise OutputError("output exists; use --force to replace it", source=str(p))
-    write_grid(input_grid(result), paths["modes"], True, protect)
-    write_grid(fine_grid(result), paths["modes_fine"], True, protect)
-    write_json(paths["summary"], result.summary(), True, protect)
+    with OutputSet(force, protected_inputs(result)) as outs:
+        outs.add_all(paths.values())
+        outs.write_bytes(paths["modes"], vtu_bytes(input_grid(result)))
+        outs.write_bytes(paths["modes_fine"], vtu_bytes(fine_grid(result)))
+        outs.write_text(paths["summary"], json_text(result.summary()))
+        outs.commit()
     return paths
+
+
+def json_text(data) -> str:
+    return json.dumps(data, indent=2, default=_jsonable) + "\n"
+
+
+def is_result_file(path) -> bool:
+    """True for a VTU written by framebuckle (mode fields and load factors), read cheaply.
+
+    Looks for the result mark or the case-name field data in the XML head of the file (field
+    data names are written before any appended data).
+    """
+    p = Path(path)
+    if p.suffix.lower() != ".vtu":
+        return False
+    try:
+        with open(p, "rb") as f:
+            head = f.read(1 << 20)
+    except OSError:
+        return False
+    head = head.split(b"<AppendedData", 1)[0]
+    return (f'Name="{RESULT_MARK}"'.encode() in head or b'Name="case_names' in head) and \
+        b'Name="load_factors.' in head
+
+
+def refuse_result_file(path):
+    """InputError when ``path`` is a result file of framebuckle rather than an input mesh."""
+    if is_result_file(path):
+        from .errors import InputError
+        raise InputError("this is a framebuckle result file (mode shapes written by solve or check), "
+                         "not the mesh of a linear run: give the original input mesh to analyse, or "
+                         f"draw this file with `framebuckle render {path}`", source=str(path))
 
 
 def output_stem(source: str) -> str:
