@@ -112,6 +112,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     wrest = options.get("warping")
     warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
     warnings += list(options.get("warping_warnings", []))
+    warnings += list(im.extra.get("section_warnings", []))
     coarse_cell = _interior_cell(ref, im)
     try:
         if wrest is None:
