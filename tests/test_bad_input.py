@@ -293,6 +293,13 @@ def study_missing_section_id(t):
     return [m, "--study", s], ["study.toml", "cell 4", "section_id = 2", "[sections.values]"], [m, s]
 
 
+def study_section_dimension(t):
+    m = _vtu(t, portal(Iy=None, Iz=None, A=None, J=None, section_id=np.ones(8)))
+    s = _study(t, "[sections]\nkey = \"section_id\"\n[sections.values.1]\nshape = \"I\"\nh = 0.3\n"
+                  "b = 0.15\ntw = 0.0071\ntf = 0.2\n")
+    return [m, "--study", s], ["study.toml", "[sections.values.1]", "tf = 0.2", "h/2"], [m, s]
+
+
 def study_unknown_case(t):
     m = _vtu(t, portal())
     s = _study(t, "[analysis]\ncases = [\"wind\"]\n")
@@ -333,7 +340,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              no_support, unsupported_part, coincident_unjoined, mechanism, bar_chain_mechanism,
              study_unknown_key, study_unknown_table, study_wrong_type, study_bad_value,
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
-             study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
+             study_section_dimension, study_unknown_case, study_missing_key_field,
+             out_parent_is_file, out_is_file,
              checks_member_share_out_of_range]
 
 

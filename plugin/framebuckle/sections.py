@@ -51,9 +51,9 @@ CONSTANTS = ("A", "Iy", "Iz", "J", "Iw")
 CHANNEL_WARNING = (
     "section {key}: channel, shear centre {y0:.4g} from the centroid along local y; the beam "
     "element puts the shear centre on the centroid axis, so twist is not coupled with bending "
-    "about local y: flexural-torsional (and lateral-torsional) load factors of these members are "
-    "over-estimated (unsafe side); flexural buckling about local z and in-plane modes are not "
-    "affected (Ip is taken about the shear centre)")
+    "about local y: flexural-torsional load factors of compressed members of this section are "
+    "over-estimated (unsafe side); flexural buckling about local z is not affected, Ip is taken "
+    "about the shear centre, and lateral-torsional buckling is that of loads through the shear centre")
 
 
 class DimensionError(ValueError):
