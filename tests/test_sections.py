@@ -80,12 +80,12 @@ def test_fillets_matter_at_the_table_tolerance():
 
 
 def test_cold_formed_shs_against_en10219():
-    """SHS 100 x 100 x 5, cold formed, EN 10219-2:2006 table (from memory): A = 18.36 cm2,
-    I = 271.1 cm4, It = 440.5 cm4, corner radii ro = 2 t, ri = t (EN 10219-2 for t <= 6 mm)."""
+    """SHS 100 x 100 x 5, cold formed, EN 10219-2:2006 table (from memory, I and It to 3 digits):
+    A = 18.36 cm2, I = 271 cm4, It = 441 cm4, corner radii ro = 2 t, ri = t (EN 10219-2, t <= 6 mm)."""
     c = S.constants("SHS", dict(b=100, t=5, ro=10, ri=5))
     assert rel(c["A"] / CM2, 18.36) < 0.005
-    assert rel(c["Iy"] / CM4, 271.1) < 0.005 and c["Iy"] == pytest.approx(c["Iz"], rel=1e-12)
-    assert rel(c["J"] / CM4, 440.5) < 0.01
+    assert rel(c["Iy"] / CM4, 271) < 0.005 and c["Iy"] == pytest.approx(c["Iz"], rel=1e-12)
+    assert rel(c["J"] / CM4, 441) < 0.01
     assert c["Iw"] == 0.0
     # ri defaults to ro - t (the EN 10219-2 pairing)
     assert S.constants("SHS", dict(b=100, t=5, ro=10)) == c
