@@ -293,6 +293,13 @@ def study_missing_section_id(t):
     return [m, "--study", s], ["study.toml", "cell 4", "section_id = 2", "[sections.values]"], [m, s]
 
 
+def study_section_dimension(t):
+    m = _vtu(t, portal(Iy=None, Iz=None, A=None, J=None, section_id=np.ones(8)))
+    s = _study(t, "[sections]\nkey = \"section_id\"\n[sections.values.1]\nshape = \"I\"\nh = 0.3\n"
+                  "b = 0.15\ntw = 0.0071\ntf = 0.2\n")
+    return [m, "--study", s], ["study.toml", "[sections.values.1]", "tf = 0.2", "h/2"], [m, s]
+
+
 def study_unknown_case(t):
     m = _vtu(t, portal())
     s = _study(t, "[analysis]\ncases = [\"wind\"]\n")
@@ -383,7 +390,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
              checks_member_share_out_of_range,
              study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign,
-             result_file_as_input, output_name_is_folder, output_links_to_input, output_name_too_long]
+             result_file_as_input, output_name_is_folder, output_links_to_input, output_name_too_long,
+             study_section_dimension]
 
 
 def test_catalogue_is_large_enough():

@@ -116,6 +116,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases}, im.units,
                                      im.extra.get("compression") == "positive")
     warnings += list(options.get("warping_warnings", []))
+    warnings += list(im.extra.get("section_warnings", []))
     coarse_cell = _interior_cell(ref, im)
     try:
         if wrest is None:

@@ -37,6 +37,7 @@ from . import units
 from .errors import InputError
 from .model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
 from .releases import read_releases
+from .sections import DimensionError, table_rows
 from .study import SUPPORT_KINDS, Study
 from .twistlength import EQUIVALENT_NOTE, twist_lengths
 
@@ -224,12 +225,22 @@ def point_sets(mesh) -> dict:
     return {k: np.array(sorted(v), dtype=np.int64) for k, v in sets.items()}
 
 
+def section_rows(values: dict, source: str):
+    """``sections.table_rows`` with its errors as InputError naming the row and field."""
+    try:
+        return table_rows(values)
+    except DimensionError as err:
+        raise InputError(f"[sections.values.{err.key}] {err}", source=source) from None
+
+
 def _table_values(study: Study, table: str, cellkey, ncells, cell_ids, src):
     """Per-element property arrays from a study table keyed by an integer cell field."""
     out = {}
     values = study.get(table, "values", default={})
     if cellkey is None:
         return out
+    if table == "sections":  # rows given by shape and dimensions -> constants
+        values, out["_sections"], out["_section_warnings"] = section_rows(values, study.source)
     ids = np.rint(cellkey).astype(np.int64)
     for prop in {p for v in values.values() for p in v}:
         arr = np.full(ncells, np.nan)
@@ -312,6 +323,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
                                  source=study.source)
             tables.update(_table_values(study, table, np.repeat(keyvals, expand), len(elements),
                                         cell_ids, src))
+    section_info = {k: tables.pop(k, None) for k in ("_sections", "_section_warnings")}
 
     bar = cf("bar")
     declared = study.units
@@ -394,7 +406,8 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
     extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"],
-             "twist_lengths": twist,
+             "twist_lengths": twist, "sections": section_info["_sections"] or None,
+             "section_warnings": section_info["_section_warnings"] or [],
              "compression": "positive" if study.compression_positive else "negative"}
     said = units.note(declared)
     if said:

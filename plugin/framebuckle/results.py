@@ -114,6 +114,7 @@ class Result:
             "notes": list(self.notes),
             "warnings": list(self.warnings),
             "cautions": list(CAUTIONS),
+            **({"sections": self.input.extra["sections"]} if self.input.extra.get("sections") else {}),
         }
 
 

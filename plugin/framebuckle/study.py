@@ -15,6 +15,7 @@ from typing import Any
 
 from . import units
 from .errors import InputError
+from .sections import DIMENSION_KEYS
 
 #: Field names the reader looks for, and their defaults in the file.
 FIELD_DEFAULTS = {
@@ -29,6 +30,8 @@ FIELD_DEFAULTS = {
 
 _num = (int, float)
 _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", "G", "Asy", "Asz")}
+# sections from shape and dimensions (framebuckle.sections)
+_SHAPE_KEYS = {"shape": (str,), **{k: _num for k in DIMENSION_KEYS}}
 
 #: Allowed keys: a dict is a table, a tuple of types a leaf, "TABLE_OF" a table
 #: whose keys are free (integer ids) and whose values follow the inner schema.
@@ -39,7 +42,7 @@ SCHEMA: dict[str, Any] = {
     "warping": {"supports": (str,), "points": (list,)},
     "units": {"force": (str,), "length": (str,), "stress": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
-    "sections": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
+    "sections": {"key": (str,), "values": ("TABLE_OF", {**_SECTION_KEYS, **_SHAPE_KEYS})},
     "materials": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
     "supports": ("LIST_OF", {"set": (str,), "box": {"min": (list,), "max": (list,)},
                              "fix": (list, str), "points": (list,)}),
