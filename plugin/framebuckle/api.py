@@ -22,6 +22,10 @@ from .study import Study, load_study, study_from_dict
 
 DEFAULT_MODES = 4
 DEFAULT_SUBDIVIDE = 8
+#: largest sub-division per beam cell, and largest number of points after sub-division
+#: (about 3 GB of matrices at 48 DOFs per point); beyond, the run is refused before it starts
+MAX_SUBDIVIDE = 1000
+MAX_FINE_POINTS = 5_000_000
 #: share of a mode's geometric work done by the twist term above which it is a torsional mode
 TORSION_SHARE = 0.8
 
@@ -88,6 +92,11 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
                "parallel_sturm": bool(sturm_worker)}
     if _warping.parse(warping, st, im.source) == "dof" and im.extra.get("Iw") is not None:
         options["warping"] = _warping.restrained_points(im, st)
+    n_fine = im.frame.n_nodes + (m - 1) * int((~im.frame.bar).sum())
+    if m > MAX_SUBDIVIDE or n_fine > MAX_FINE_POINTS:
+        raise InputError(f"the sub-division {m} per beam cell would give {n_fine} points (limits: "
+                         f"{MAX_SUBDIVIDE} per cell, {MAX_FINE_POINTS} points in all); choose a smaller "
+                         f"sub-division", source=st.source)
     res = run(im, k, m, pl, meth, progress=progress, options=options)
     res.timings["read"] = t_read
     return res
@@ -105,7 +114,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     fine = ref.frame
     n_in = im.frame.n_nodes
     wrest = options.get("warping")
-    warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases})
+    warnings = list(im.extra.get("warnings", ())) + sanity.model_warnings(
+        im.frame, {c.name: c.axial for c in im.cases}, Iw=im.extra.get("Iw"))
     coarse_cell = _interior_cell(ref, im)
     try:
         if wrest is None:
@@ -119,6 +129,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                                             np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
             K = asm.stiffness()
             cons = _ignore_unused(asm.constraints(fine, K, planar, n_in, im.source), fine)
+        _refuse_rigid(im, cons.free)
         timings["assembly"] = time.perf_counter() - t
         t = time.perf_counter()
         stage(f"factorizing ({len(cons.free)} free DOFs)")
@@ -221,6 +232,19 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     res = Result(im, ref, cons, cases, notes, settings, warnings)
     res.timings.update(timings)
     return res
+
+
+def _refuse_rigid(im, free):
+    """A model in which nothing can move cannot buckle; with compressed members that is an input slip."""
+    if free.size:
+        return
+    for c in im.cases:
+        if (c.axial < 0).any() or c.extra.get("moments") is not None:
+            i = int(np.argmin(c.axial))
+            raise ModelError(f"every degree of freedom is restrained: nothing can move, yet case '{c.name}' "
+                             f"compresses cell {int(im.frame.parent[i])} ({c.axial[i]:.4g}); a rigid model "
+                             f"cannot be judged for buckling. Probable cause: a restraint field of all ones",
+                             source=im.source)
 
 
 def _explained(exc, warnings):

@@ -146,6 +146,10 @@ def part_warnings(frame: Frame) -> list[str]:
             f"points where they meet"]
 
 
-def model_warnings(frame: Frame, axial_by_case: dict | None = None) -> list[str]:
-    """All plausibility warnings of a coarse (input) model."""
-    return coincident_warnings(frame) + part_warnings(frame) + unit_warnings(frame, axial_by_case)
+def model_warnings(frame: Frame, axial_by_case: dict | None = None, Iw=None) -> list[str]:
+    """All plausibility warnings of a coarse (input) model (rules of :mod:`framebuckle.plausible`
+    included: cell outliers, orientation near the axis, overlapping cells)."""
+    from .plausible import axis_warnings, outlier_warnings, overlap_warnings
+    with np.errstate(all="ignore"):
+        return (coincident_warnings(frame) + part_warnings(frame) + overlap_warnings(frame)
+                + outlier_warnings(frame, Iw) + axis_warnings(frame) + unit_warnings(frame, axial_by_case))
