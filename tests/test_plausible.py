@@ -81,7 +81,7 @@ def test_column_out_of_plumb_by_export_noise_keeps_its_section():
     # a result must not depend on micrometre export noise (project rule): same alpha_cr as plumb
     ref = fb.solve(portal(), modes=2, subdivide=4).cases[0].load_factors
     p, c, ax, r = portal_arrays()
-    p[4, 0] += 5e-6
+    p[4, 1] += 5e-6
     noisy = fb.solve(mesh_from(p, c, ax, r), modes=2, subdivide=4)
     assert np.allclose(noisy.cases[0].load_factors, ref, rtol=1e-5)
     assert not noisy.warnings
@@ -188,3 +188,19 @@ def test_imperfection_in_range_is_accepted(portal_result):
     # IPE 300: W_el,y = 557 cm^3 (section tables, from memory); S355
     rep = run_check(portal_result, study_from_dict({"imperfection": {"W": 5.57e-4, "fy": 3.55e8}}))
     assert rep.imperfection["e0"] > 0
+
+
+def test_unused_points_do_not_change_the_planar_detection():
+    # a plane frame in XZ (supports fix no out-of-plane DOF) is analysed in its plane; a point no
+    # member uses, off the plane, must not turn it into a 3D mechanism
+    pts = np.array([[0, 0, 0], [6, 0, 0], [0, 0, 4], [6, 0, 4]], float)
+    cells = np.array([[0, 2], [1, 3], [2, 3]])
+    r = np.zeros((4, 6))
+    r[:2, [0, 2, 4]] = 1                                  # fixed in the plane
+    ax = np.array([-2e5, -2e5, -5e3])
+    ref = fb.solve(mesh_from(pts, cells, ax, r), modes=2, subdivide=4)
+    assert ref.constraints.planar_axis == 1
+    more = fb.solve(mesh_from(np.vstack([pts, [[3, 5, 2]]]), cells, ax, np.vstack([r, np.zeros(6)])),
+                    modes=2, subdivide=4)
+    assert more.constraints.planar_axis == 1
+    assert np.allclose(more.cases[0].load_factors, ref.cases[0].load_factors, rtol=1e-10)

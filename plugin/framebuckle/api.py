@@ -121,14 +121,14 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         if wrest is None:
             asm = Assembler.build(fine)
             K = asm.stiffness()
-            cons = _ignore_unused(find_constraints(fine, K, planar), fine)
+            cons = _ignore_unused(find_constraints(_used_only(fine), K, planar), fine)
             check_supported(fine, cons, n_in, im.source)
         else:                                   # warping DOFs (framebuckle.warping)
             asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
                                             ref.fine_axial(im.extra["J_raw"]),
                                             np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
             K = asm.stiffness()
-            cons = _ignore_unused(asm.constraints(fine, K, planar, n_in, im.source), fine)
+            cons = _ignore_unused(asm.constraints(_used_only(fine), K, planar, n_in, im.source), fine)
         _refuse_rigid(im, cons.free)
         timings["assembly"] = time.perf_counter() - t
         t = time.perf_counter()
@@ -252,6 +252,19 @@ def _explained(exc, warnings):
     if not warnings:
         return exc
     return type(exc)(str(exc) + "".join(f"\n  possible reason: {w}" for w in warnings))
+
+
+def _used_only(fine):
+    """The frame with points no member uses moved onto a used point and unrestrained, so that they
+    change no geometric test (planar detection) and no restraint-based decision."""
+    unused = sanity.unused_points(fine)
+    if unused.size == 0:
+        return fine
+    nodes = fine.nodes.copy()
+    nodes[unused] = nodes[fine.elements[0, 0]]
+    restraint = fine.restraint.copy()
+    restraint[unused] = False
+    return replace(fine, nodes=nodes, restraint=restraint)
 
 
 def _ignore_unused(cons, fine):
