@@ -51,7 +51,7 @@ from .errors import InputError
 SECTION_TOL = 0.01
 #: J above Iy + Iz by more than this factor is a unit slip (cm^4 beside m gives 1e8); below it a
 #: warning (a deliberately torsion-stiff idealisation is allowed)
-J_ERROR = 1e3
+J_ERROR = 1e6
 IW_WARN = 10.0
 IW_ERROR = 1e4
 OUTLIER = 1e3
