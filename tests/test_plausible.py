@@ -204,3 +204,14 @@ def test_unused_points_do_not_change_the_planar_detection():
                     modes=2, subdivide=4)
     assert more.constraints.planar_axis == 1
     assert np.allclose(more.cases[0].load_factors, ref.cases[0].load_factors, rtol=1e-10)
+
+
+def test_a_cell_with_outlying_bending_constants_is_named_not_its_torsion_constant():
+    # one cell's Iy, Iz 1e-8 times the others' (another unit) makes its J exceed Iy + Iz 1e5 times:
+    # the bending constants are the slip, so that is a warning naming them, not a J error
+    iy, iz = np.full(8, IY), np.full(8, IZ)
+    iy[6] *= 1e-8
+    iz[6] *= 1e-8
+    res = fb.solve(portal(Iy=iy, Iz=iz), modes=1, subdivide=2)
+    assert any("cell outlier: Iy of cell(s) 6 " in w for w in res.warnings)
+    assert any("torsion-polar" in w and "cell(s) 6" in w for w in res.warnings)

@@ -13,7 +13,8 @@ constant):
   sections of given polar moment the circle is stiffest in torsion, where
   :math:`J = I_p`; Timoshenko & Goodier, *Theory of Elasticity*, 3rd ed. 1970,
   sec. 109, from memory).  Warning above ``(1 + SECTION_TOL) (Iy + Iz)`` (a
-  torsion-stiff idealisation is allowed), error above ``J_ERROR (Iy + Iz)``.
+  torsion-stiff idealisation is allowed), error above ``J_ERROR (Iy + Iz)``
+  unless that cell's Iy or Iz is a ``cell-outlier`` (then they are the slip).
 * ``polar-sum``: :math:`I_p = I_y + I_z + A (y_0^2 + z_0^2) \ge I_y + I_z`
   (parallel-axis theorem about the shear centre).  Error below
   ``(1 - SECTION_TOL) (Iy + Iz)``.
@@ -49,9 +50,10 @@ import numpy as np
 from .errors import InputError
 
 SECTION_TOL = 0.01
-#: J above Iy + Iz by more than this factor is a unit slip (cm^4 beside m gives 1e8); below it a
-#: warning (a deliberately torsion-stiff idealisation is allowed)
-J_ERROR = 1e6
+#: J above Iy + Iz by more than this factor is a unit slip (cm^4 beside m gives 1e5 .. 1e8); below it
+#: a warning (a deliberately torsion-stiff idealisation is allowed), and also above it when the cell's
+#: Iy or Iz is itself a cell outlier (then the bending constants are the likely slip, not J)
+J_ERROR = 1e3
 IW_WARN = 10.0
 IW_ERROR = 1e4
 OUTLIER = 1e3
@@ -65,7 +67,7 @@ def section_errors(props: dict, bar: np.ndarray, cell_ids, name, src) -> None:
     Iy, Iz, J = props["Iy"], props["Iz"], props["J"]
     beam = ~np.asarray(bar, bool) & (Iy > 0) & (Iz > 0)      # non-positive values are refused later
     s = Iy + Iz
-    bad = np.flatnonzero(beam & (J > J_ERROR * s))
+    bad = np.flatnonzero(beam & (J > J_ERROR * s) & ~_outlying(Iy, beam) & ~_outlying(Iz, beam))
     if bad.size:
         i = bad[0]
         raise InputError(f"field '{name('J')}' of cell {cell_ids[i]} is {J[i]:.4g}, {J[i] / s[i]:.3g} times "
@@ -89,6 +91,15 @@ def section_errors(props: dict, bar: np.ndarray, cell_ids, name, src) -> None:
                              f"a section {np.sqrt(rho[i]):.3g} times deeper than its own A, Iy and Iz "
                              f"(rule warping-depth, Iw A / (Imin Imax) = {rho[i]:.3g} > {IW_ERROR:g}); "
                              f"Iw is probably in mm^6 or cm^6 ({bad.size} cell(s))", source=src)
+
+
+def _outlying(a, where) -> np.ndarray:
+    """Cells whose value is more than OUTLIER times off the median over ``where`` (>= 3 cells)."""
+    if where.sum() < 3:
+        return np.zeros(len(a), bool)
+    with np.errstate(all="ignore"):
+        r = a / np.median(a[where])
+    return where & ((r > OUTLIER) | (r < 1 / OUTLIER))
 
 
 def warping_ratio(props: dict, beam) -> np.ndarray | None:
