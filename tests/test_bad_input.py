@@ -18,6 +18,9 @@ import numpy as np
 import pytest
 
 from faultkit import E, mesh_from, portal, portal_arrays, run_cli, sha
+from faultkit import IY as IY_PORTAL
+from faultkit import IZ as IZ_PORTAL
+from faultkit import J as J_PORTAL
 
 
 def _vtu(tmp: Path, mesh, name="model.vtu") -> Path:
@@ -379,6 +382,137 @@ def output_name_too_long(t):
     return [m], ["modes.vtu", "file name is"], [m]
 
 
+# --- plausibility rules (framebuckle.plausible) and the typed study schema
+
+def torsion_constant_in_cm4(t):
+    # J in cm^4 beside m: J > Iy + Iz is impossible (Saint-Venant's inequality J <= Ip)
+    return [_vtu(t, portal(J=J_PORTAL * 1e8))], ["model.vtu", "'J'", "cell 0", "torsion-polar"], []
+
+
+def polar_below_sum(t):
+    return [_vtu(t, portal(Ip=0.5 * (IY_PORTAL + IZ_PORTAL)))], ["model.vtu", "'Ip'", "cell 0", "polar-sum"], []
+
+
+def warping_constant_in_mm6(t):
+    return [_vtu(t, portal(Iw=1.25e-7 * 1e18))], ["model.vtu", "'Iw'", "cell 0", "warping-depth"], []
+
+
+def bar_half(t):
+    return [_vtu(t, portal(bar=np.r_[np.zeros(7), 0.5]))], ["model.vtu", "'bar'", "0 or 1", "cell 7"], []
+
+
+def bar_nan(t):
+    return [_vtu(t, portal(bar=np.r_[np.nan, np.zeros(7)]))], ["model.vtu", "'bar'", "cell 0"], []
+
+
+def duplicate_case_name(t):
+    p, c, ax, r = portal_arrays()
+    m = mesh_from(p, c, ax, r, **{"axial_force.default": 2 * ax})
+    return [_vtu(t, m)], ["model.vtu", "'default'", "'axial_force'", "'axial_force.default'", "unique"], []
+
+
+def rigid_model_compressed(t):
+    # every point fixed and only bars (never sub-divided): nothing can move
+    p, c, ax, r = portal_arrays()
+    return [_vtu(t, mesh_from(p, c, ax, np.ones((8, 6)), bar=np.ones(8)))], \
+        ["model.vtu", "every degree of freedom is restrained", "cell 0"], []
+
+
+def duplicate_cell(t):
+    p, c, ax, r = portal_arrays()
+    return [_vtu(t, mesh_from(p, np.vstack([c, c[2, ::-1]]), np.r_[ax, ax[2]], r))], \
+        ["model.vtu", "cell 8 duplicates cell 2", "duplicate-cell"], []
+
+
+def line3_middle_stored_second(t):
+    p, c, ax, r = portal_arrays()
+    p = np.vstack([p, [[0, 0, 2.0]]])
+    r = np.vstack([r, np.zeros(6)])
+    props = {"E": E, "G": 8.1e10, "A": 5.38e-3, "Iy": IY_PORTAL, "Iz": IZ_PORTAL, "J": J_PORTAL}
+    cd = {k: [np.full(7, v), np.full(1, v)] for k, v in props.items()}
+    cd["axial_force"] = [ax[1:], ax[:1]]
+    m = meshio.Mesh(p, [("line", c[1:]), ("line3", np.array([[0, 8, 4]]))], point_data={"restraint": r},
+                    cell_data=cd)
+    return [_vtu(t, m)], ["model.vtu", "line3 cell 7", "[0, 8, 4]", "line3-order"], []
+
+
+def section_key_fraction(t):
+    m = _vtu(t, portal(Iy=None, Iz=None, A=None, J=None, section_id=np.r_[np.full(4, 1.4), np.full(4, 1)]))
+    s = _study(t, "[sections]\nkey = \"section_id\"\n[sections.values.1]\nA = 5e-3\nIy = 8e-5\n"
+                  "Iz = 6e-6\nJ = 2e-7\n")
+    return [m, "--study", s], ["model.vtu", "section_id", "whole numbers", "cell 0", "1.4"], [m, s]
+
+
+def study_support_point_float(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[[supports]]\npoints = [0.7, 1]\nfix = \"fixed\"\n")
+    return [m, "--study", s], ["study.toml", "supports[0].points", "item 0", "float"], [m, s]
+
+
+def study_support_point_string(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[[supports]]\npoints = [0, \"a\"]\nfix = \"fixed\"\n")
+    return [m, "--study", s], ["study.toml", "supports[0].points", "item 1", "str"], [m, s]
+
+
+def study_support_point_huge(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[[supports]]\npoints = [100000000000000000000]\nfix = \"fixed\"\n")
+    return [m, "--study", s], ["study.toml", "supports[0].points", "item 0", "out of range"], [m, s]
+
+
+def study_support_points_nested(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[[supports]]\npoints = [[0, 1], [2, 3]]\nfix = \"fixed\"\n")
+    return [m, "--study", s], ["study.toml", "supports[0].points", "item 0", "list"], [m, s]
+
+
+def study_box_string(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[[supports]]\nbox = { min = [\"a\", 0, 0], max = [1, 1, 1] }\nfix = \"fixed\"\n")
+    return [m, "--study", s], ["study.toml", "supports[0].box.min", "item 0"], [m, s]
+
+
+def study_release_cells_string(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[[releases]]\ncells = [\"x\"]\nstart = \"pinned\"\n")
+    return [m, "--study", s], ["study.toml", "releases[0].cells", "item 0", "str"], [m, s]
+
+
+def study_warping_points_string(t):
+    m = _vtu(t, portal(Iw=np.full(8, 1.25e-7)))
+    s = _study(t, "[analysis]\nwarping = \"dof\"\n[warping]\npoints = [\"a\"]\n")
+    return [m, "--study", s], ["study.toml", "warping.points", "item 0"], [m, s]
+
+
+def absurd_force(t):
+    p, c, ax, r = portal_arrays()
+    return [_vtu(t, mesh_from(p, c, ax * 1e295, r))], ["model.vtu", "axial force", "cell 0", "1e+30"], []
+
+
+def absurd_coordinates(t):
+    p, c, ax, r = portal_arrays()
+    return [_vtu(t, mesh_from(p * 1e-110, c, ax, r))], ["model.vtu", "cell 0", "1e-30"], []
+
+
+def absurd_subdivision(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[analysis]\nsubdivide = 100000000\n")
+    return [m, "--study", s], ["study.toml", "sub-division 100000000", "smaller"], [m, s]
+
+
+def polyline_cells(t):
+    p = t / "poly.vtu"
+    p.write_text('<?xml version="1.0"?>\n<VTKFile type="UnstructuredGrid" version="0.1" '
+                 'byte_order="LittleEndian"><UnstructuredGrid><Piece NumberOfPoints="3" NumberOfCells="1">'
+                 '<Points><DataArray type="Float64" NumberOfComponents="3" format="ascii">0 0 0 1 0 0 2 0 0'
+                 '</DataArray></Points><Cells><DataArray type="Int64" Name="connectivity" format="ascii">'
+                 '0 1 2</DataArray><DataArray type="Int64" Name="offsets" format="ascii">3</DataArray>'
+                 '<DataArray type="UInt8" Name="types" format="ascii">4</DataArray></Cells></Piece>'
+                 '</UnstructuredGrid></VTKFile>')
+    return [p], ["poly.vtu", "no line cells", "VTK poly-line (type 4)"], [p]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -391,7 +525,13 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              checks_member_share_out_of_range,
              study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign,
              result_file_as_input, output_name_is_folder, output_links_to_input, output_name_too_long,
-             study_section_dimension]
+             study_section_dimension,
+             torsion_constant_in_cm4, polar_below_sum, warping_constant_in_mm6, bar_half, bar_nan,
+             duplicate_case_name, rigid_model_compressed, duplicate_cell, line3_middle_stored_second,
+             section_key_fraction, study_support_point_float, study_support_point_string,
+             study_support_point_huge, study_support_points_nested, study_box_string,
+             study_release_cells_string, study_warping_points_string, absurd_force, absurd_coordinates,
+             absurd_subdivision, polyline_cells]
 
 
 def test_catalogue_is_large_enough():

@@ -23,6 +23,10 @@ from .twistlength import EQUIVALENT_NOTE
 
 DEFAULT_MODES = 4
 DEFAULT_SUBDIVIDE = 8
+#: largest sub-division per beam cell, and largest number of points after sub-division
+#: (about 3 GB of matrices at 48 DOFs per point); beyond, the run is refused before it starts
+MAX_SUBDIVIDE = 1000
+MAX_FINE_POINTS = 5_000_000
 #: share of a mode's geometric work done by the twist term above which it is a torsional mode
 TORSION_SHARE = 0.8
 
@@ -96,6 +100,11 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     wmode = _warping.parse(warping, st, im.source)
     if im.extra.get("Iw") is not None:
         options.update(_warping.choose(wmode, im, st))
+    n_fine = im.frame.n_nodes + (m - 1) * int((~im.frame.bar).sum())
+    if m > MAX_SUBDIVIDE or n_fine > MAX_FINE_POINTS:
+        raise InputError(f"the sub-division {m} per beam cell would give {n_fine} points (limits: "
+                         f"{MAX_SUBDIVIDE} per cell, {MAX_FINE_POINTS} points in all); choose a smaller "
+                         f"sub-division", source=st.source)
     res = run(im, k, m, pl, meth, progress=progress, options=options)
     res.timings["read"] = t_read
     return res
@@ -113,8 +122,9 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     fine = ref.frame
     n_in = im.frame.n_nodes
     wrest = options.get("warping")
-    warnings = sanity.model_warnings(im.frame, {c.name: c.axial for c in im.cases}, im.units,
-                                     im.extra.get("compression") == "positive")
+    warnings = list(im.extra.get("warnings", ())) + sanity.model_warnings(
+        im.frame, {c.name: c.axial for c in im.cases}, im.units,
+        im.extra.get("compression") == "positive", Iw=im.extra.get("Iw"))
     warnings += list(options.get("warping_warnings", []))
     warnings += list(im.extra.get("section_warnings", []))
     coarse_cell = _interior_cell(ref, im)
@@ -122,14 +132,15 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         if wrest is None:
             asm = Assembler.build(fine)
             K = asm.stiffness()
-            cons = _ignore_unused(find_constraints(fine, K, planar), fine)
+            cons = _ignore_unused(find_constraints(_used_only(fine), K, planar), fine)
             check_supported(fine, cons, n_in, im.source)
         else:                                   # warping DOFs (framebuckle.warping)
             asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
                                             ref.fine_axial(im.extra["J_raw"]),
                                             np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
             K = asm.stiffness()
-            cons = _ignore_unused(asm.constraints(fine, K, planar, n_in, im.source), fine)
+            cons = _ignore_unused(asm.constraints(_used_only(fine), K, planar, n_in, im.source), fine)
+        _refuse_rigid(im, cons.free)
         timings["assembly"] = time.perf_counter() - t
         t = time.perf_counter()
         stage(f"factorizing ({len(cons.free)} free DOFs)")
@@ -289,11 +300,37 @@ class CasePencils:
         return normalise_modes(full[:fine.n_dofs], fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max()))
 
 
+def _refuse_rigid(im, free):
+    """A model in which nothing can move cannot buckle; with compressed members that is an input slip."""
+    if free.size:
+        return
+    for c in im.cases:
+        if (c.axial < 0).any() or c.extra.get("moments") is not None:
+            i = int(np.argmin(c.axial))
+            raise ModelError(f"every degree of freedom is restrained: nothing can move, yet case '{c.name}' "
+                             f"compresses cell {int(im.frame.parent[i])} ({c.axial[i]:.4g}); a rigid model "
+                             f"cannot be judged for buckling. Probable cause: a restraint field of all ones",
+                             source=im.source)
+
+
 def _explained(exc, warnings):
     """The same error with the plausibility warnings that may explain it appended."""
     if not warnings:
         return exc
     return type(exc)(str(exc) + "".join(f"\n  possible reason: {w}" for w in warnings))
+
+
+def _used_only(fine):
+    """The frame with points no member uses moved onto a used point and unrestrained, so that they
+    change no geometric test (planar detection) and no restraint-based decision."""
+    unused = sanity.unused_points(fine)
+    if unused.size == 0:
+        return fine
+    nodes = fine.nodes.copy()
+    nodes[unused] = nodes[fine.elements[0, 0]]
+    restraint = fine.restraint.copy()
+    restraint[unused] = False
+    return replace(fine, nodes=nodes, restraint=restraint)
 
 
 def _ignore_unused(cons, fine):

@@ -26,6 +26,7 @@ from .effective import (MEMBER_SHARE, NEGLIGIBLE, design_lengths, design_summary
 from .errors import InputError, OutputError
 from .imperfection import imperfect_grid, scale_for
 from .members import Members, group_members
+from .plausible import fy_errors, imperfection_errors, model_extent, storey_errors
 from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, case_energies, chord_work,
                             participation)
 from .results import CAUTIONS
@@ -83,7 +84,7 @@ def _settings(study: Study) -> dict:
     return dict(study.get("checks", default={}) or {})
 
 
-def _storeys(study: Study) -> list:
+def _storeys(study: Study, result=None) -> list:
     out = []
     for i, s in enumerate(study.get("storeys", default=[]) or []):
         where = f"[[storeys]] entry {i + 1}"
@@ -103,6 +104,8 @@ def _storeys(study: Study) -> list:
         for k in ("P_story", "P_e_story", "H", "height", "drift"):
             if k in s and not float(s[k]) > 0:
                 raise InputError(f"{where}: {k} must be positive, got {s[k]}", source=study.source)
+        if result is not None:
+            storey_errors(s, where, [c.name for c in result.cases], model_extent(result.model), study.source)
         s = dict(s)
         s.setdefault("name", str(i + 1))
         out.append(s)
@@ -155,12 +158,15 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     st = _settings(study)
     _validate_settings(st, study.source)
     st.setdefault("codes", ["EN1993", "AISC360"])
-    storeys = _storeys(study)
+    storeys = _storeys(study, result)
     gate = float(min_alpha if min_alpha is not None else st.get("min_alpha", codecheck.first_order_limit(st)))
     im = result.input
+    fy = _fy(result, st)
+    if fy is not None:
+        fy_errors(fy, result.model.E, "yield strength fy (section/material table or [checks] fy)", study.source)
     members = group_members(result.model, im.extra.get("member"), im.source)
     ctx = {
-        "result": result, "members": members, "fy": _fy(result, st), "gate": gate,
+        "result": result, "members": members, "fy": fy, "gate": gate,
         "mof": members.of_element[result.refined.element_map],      # member of every fine element
         "storeys": [x for x in storeys if "P_story" in x],
         "neg": float(st.get("negligible_compression", NEGLIGIBLE)),
@@ -334,6 +340,7 @@ def _imperfection(result, study, members, fy, mof, fine):
             raise InputError(f"[imperfection] {key} must be a positive number, got {imp[key]}", source=study.source)
     if "e0" in imp and not (math.isfinite(imp["e0"]) and imp["e0"] >= 0):
         raise InputError(f"[imperfection] e0 must be >= 0, got {imp['e0']}", source=study.source)
+    imperfection_errors(imp, result.model, study.source)
     ok_cases = [i for i, c in enumerate(result.cases) if c.status == "ok"]
     if not ok_cases:
         return ({"skipped": True, "note": "no load case has a buckling mode: no imperfect mesh written"}

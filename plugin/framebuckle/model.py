@@ -19,8 +19,14 @@ from .errors import InputError
 DOF_NAMES = ("ux", "uy", "uz", "rx", "ry", "rz")
 SECTION_FIELDS = ("E", "G", "A", "Iy", "Iz", "J")
 #: Members closer than this (sine of the angle) to the global Z axis are
-#: "vertical" and get global X as their default orientation vector.
-VERTICAL_TOL = 1e-6
+#: "vertical" and get global X as their default orientation vector (1 mm per
+#: metre: export noise of a few micrometres never turns a column's section).
+VERTICAL_TOL = 1e-3
+#: Plausible magnitudes of every input number (model units): a nonzero section
+#: property or member length outside this range, or an axial force or
+#: coordinate beyond its upper end, is an error (products in the element
+#: matrices would overflow or underflow).
+MAGNITUDE = (1e-30, 1e30)
 
 
 def _frozen(a, dtype=float):
@@ -33,7 +39,7 @@ def default_orientation(nodes: np.ndarray, elements: np.ndarray) -> np.ndarray:
     """Global Z for every element, global X for (nearly) vertical ones."""
     d = nodes[elements[:, 1]] - nodes[elements[:, 0]]
     L = np.linalg.norm(d, axis=1)
-    with np.errstate(invalid="ignore", divide="ignore"):
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         horiz = np.hypot(d[:, 0], d[:, 1]) / L
     out = np.zeros((len(elements), 3))
     vertical = horiz < VERTICAL_TOL
@@ -139,6 +145,11 @@ def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
     if bad.size:
         raise InputError(f"cell {bad[0]} refers to a point that does not exist", source=source)
     _check_finite(nodes, "points", source, per="point")
+    used = np.unique(elements)
+    big = np.flatnonzero((np.abs(nodes[used]) > MAGNITUDE[1]).any(axis=1))
+    if big.size:
+        raise InputError(f"point {used[big[0]]} has a coordinate beyond {MAGNITUDE[1]:g} in size "
+                         f"({nodes[used[big[0]]].tolist()}): not a plausible model size", source=source)
 
     parent = np.arange(ne) if parent is None else np.asarray(parent, dtype=np.int64)
     props = {}
@@ -146,20 +157,36 @@ def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
         props[name] = _per_element(val, name, ne, source, parent)
     props["Ip"] = (props["Iy"] + props["Iz"]) if Ip is None else _per_element(Ip, "Ip", ne, source, parent)
 
-    bar = np.zeros(ne, bool) if bar is None else _per_element(bar, "bar", ne, source, parent).astype(bool)
+    if bar is None:
+        bar = np.zeros(ne, bool)
+    else:
+        b = np.asarray(bar)
+        b = b.astype(float) if b.dtype == bool else b
+        b = _per_element(b, "bar", ne, source, parent)
+        i = first_bad_flag_row(b[:, None])
+        if i is not None:
+            raise InputError(f"field 'bar' must hold only 0 or 1; cell {parent[i]} has {b[i]:g}", source=source)
+        bar = b.astype(bool)
     # bars need only E and A; beams need everything strictly positive
     for name in ("E", "A"):
         _check_positive(props[name], name, source, parent=parent)
     for name in ("G", "Iy", "Iz", "J", "Ip"):
         _check_positive(props[name], name, source, where=~bar, parent=parent)
+    for name, a in props.items():
+        _check_magnitude(a, name, source, parent, where=None if name in ("E", "A") else ~bar)
 
     L = np.linalg.norm(nodes[elements[:, 1]] - nodes[elements[:, 0]], axis=1)
-    scale = max(float(np.ptp(nodes, axis=0).max()), float(L.max()), 1e-300)
+    # the tolerance comes from the points members use (unused points are ignored everywhere)
+    scale = max(float(np.ptp(nodes[used], axis=0).max()), float(L.max()), 1e-300)
     zero = np.flatnonzero(L <= 1e-9 * scale)
     if zero.size:
         raise InputError(
             f"cell {parent[zero[0]]} has zero length (points {elements[zero[0], 0]} and "
             f"{elements[zero[0], 1]} coincide); {zero.size} such cell(s)", source=source)
+    tiny = np.flatnonzero(L < MAGNITUDE[0])
+    if tiny.size:
+        raise InputError(f"cell {parent[tiny[0]]} is {L[tiny[0]]:.3g} long: below {MAGNITUDE[0]:g}, not a "
+                         f"plausible member length in any unit", source=source)
 
     if orientation is None:
         orientation = default_orientation(nodes, elements)
@@ -170,9 +197,10 @@ def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
                              source=source)
         _check_finite(orientation, "orientation", source, labels=parent)
         axis = (nodes[elements[:, 1]] - nodes[elements[:, 0]]) / L[:, None]
-        on = np.linalg.norm(orientation, axis=1)
-        perp = np.linalg.norm(np.cross(axis, orientation), axis=1)
-        badv = np.flatnonzero(~bar & (perp <= 1e-6 * np.maximum(on, 1e-300)))
+        unit = unit_vectors(orientation)       # judged after normalising: any length is fine
+        perp = np.linalg.norm(np.cross(axis, unit), axis=1)
+        across = perp > 1e-6                   # False for zero vectors (NaN)
+        badv = np.flatnonzero(~bar & ~across)
         if badv.size:
             raise InputError(
                 f"field 'orientation' of cell {parent[badv[0]]} is zero or parallel to the member axis; "
@@ -181,8 +209,8 @@ def make_frame(nodes, elements, E, G, A, Iy, Iz, J, Ip=None, orientation=None,
         if bar.any():
             orientation = orientation.copy()
             dflt = default_orientation(nodes, elements)
-            fix = bar & (perp <= 1e-6 * np.maximum(on, 1e-300))
-            orientation[fix] = dflt[fix]
+            orientation[bar & ~across] = dflt[bar & ~across]
+        orientation = np.where(across[:, None], unit, orientation)
 
     if restraint is None:
         restraint = np.zeros((nn, 6), bool)
@@ -247,6 +275,10 @@ def make_case(name: str, axial, frame: Frame, source: str | None = None) -> Load
         raise InputError(f"axial force of case '{name}' must have one value per cell "
                          f"({frame.n_elements}), got shape {a.shape}", source=src)
     _check_finite(a, f"axial force of case '{name}'", src, labels=frame.parent)
+    big = np.flatnonzero(np.abs(a) > MAGNITUDE[1])
+    if big.size:
+        raise InputError(f"axial force of case '{name}' at cell {frame.parent[big[0]]} is {a[big[0]]:.3g}: "
+                         f"beyond {MAGNITUDE[1]:g} in size, not a plausible force in any unit", source=src)
     return LoadCase(name=name, axial=_frozen(a))
 
 
@@ -277,6 +309,28 @@ def _check_finite(a, name, source, per="cell", labels=None):
         first = idx[0] if labels is None else labels[idx[0]]
         raise InputError(f"field '{name}' has NaN or infinite values at {per} {first}"
                          f" ({idx.size} {per}(s) in all)", source=source)
+
+
+def unit_vectors(v) -> np.ndarray:
+    """Rows of ``v`` scaled to length 1 without overflow (zero rows give NaN)."""
+    v = np.asarray(v, float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        m = np.abs(v).max(axis=1, keepdims=True)
+        w = v / m
+        return w / np.linalg.norm(w, axis=1, keepdims=True)
+
+
+def _check_magnitude(a, name, source, parent, where=None):
+    """Nonzero values outside :data:`MAGNITUDE` are an error (a unit or export slip, never a section)."""
+    x = np.abs(a)
+    bad = (x > 0) & ((x < MAGNITUDE[0]) | (x > MAGNITUDE[1]))
+    if where is not None:
+        bad &= where
+    idx = np.flatnonzero(bad)
+    if idx.size:
+        raise InputError(f"field '{name}' of cell {parent[idx[0]]} is {a[idx[0]]:.3g}: outside "
+                         f"{MAGNITUDE[0]:g} .. {MAGNITUDE[1]:g} in size, not a plausible value in any unit "
+                         f"({idx.size} cell(s) in all)", source=source)
 
 
 def _check_positive(a, name, source, where=None, parent=None):

@@ -27,6 +27,8 @@ from __future__ import annotations
 import contextlib
 import copy
 import io
+import math
+import re
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -36,12 +38,16 @@ import numpy as np
 from . import units
 from .errors import InputError
 from .model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
+from .plausible import duplicate_cells, line3_order, section_errors, section_warnings
 from .releases import read_releases
 from .sections import DimensionError, table_rows
 from .study import SUPPORT_KINDS, Study
 from .twistlength import EQUIVALENT_NOTE, twist_lengths
 
 LINE_TYPES = ("line", "line3")
+#: VTK cell type numbers meshio skips, by name (for the "cell types found" message)
+VTK_SKIPPED = {"4": "VTK poly-line (type 4)", "2": "VTK poly-vertex (type 2)", "6": "VTK triangle strip (type 6)",
+               "7": "VTK polygon (type 7)"}
 SECTION_KEYS = ("E", "G", "A", "Iy", "Iz", "J")
 
 
@@ -97,6 +103,10 @@ def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
         msg = str(exc).strip().splitlines()[0] if str(exc).strip() else kind
         raise InputError(f"cannot read the mesh ({kind}: {msg}); the file may be truncated, "
                          f"corrupt or of an unsupported format", source=src) from None
+    skipped = re.findall(r"cannot handle \(types? \[?([\d, ]+)", said.getvalue())
+    if skipped:
+        kinds = {k.strip() for g in skipped for k in g.split(",") if k.strip()}
+        mesh.info_skipped = sorted(VTK_SKIPPED.get(k, f"VTK type {k}") for k in kinds)
     return mesh, steps
 
 
@@ -239,6 +249,11 @@ def _table_values(study: Study, table: str, cellkey, ncells, cell_ids, src):
     values = study.get(table, "values", default={})
     if cellkey is None:
         return out
+    whole = np.isfinite(cellkey) & (cellkey == np.rint(cellkey)) & (np.abs(cellkey) < 2 ** 53)
+    if not whole.all():
+        i = np.flatnonzero(~whole)[0]
+        raise InputError(f"cell field '{study.get(table, 'key')}' must hold whole numbers (ids); cell "
+                         f"{cell_ids[i]} has {cellkey[i]:g}", source=src)
     if table == "sections":  # rows given by shape and dimensions -> constants
         values, out["_sections"], out["_section_warnings"] = section_rows(values, study.source)
     ids = np.rint(cellkey).astype(np.int64)
@@ -271,14 +286,20 @@ def read_input(inp, study: Study | None = None, source: str | None = None) -> In
     else:
         mesh, steps = read_mesh(inp)
         src = str(inp)
-    return mesh_to_model(mesh, study, src, steps)
+    with np.errstate(all="ignore"):     # every value is judged explicitly; no numpy warning on stderr
+        return mesh_to_model(mesh, study, src, steps)
 
 
 def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputModel:
     notes: list[str] = []
     blocks, offsets = _line_blocks(mesh)
     if not blocks:
-        types = sorted({b.type for b in mesh.cells})
+        types = sorted({b.type for b in mesh.cells}) + list(getattr(mesh, "info_skipped", []))
+        hint = ("; export each member as a 2-point line cell (poly-lines are not read)"
+                if any("poly-line" in t for t in types) else "")
+        if hint:
+            raise InputError(f"no line cells (members) in the mesh; cell types found: {', '.join(types)}{hint}",
+                             source=src)
         raise InputError(f"no line cells (members) in the mesh; cell types found: "
                          f"{', '.join(types) or 'none'}", source=src)
     n_cells = int(offsets[-1])
@@ -291,6 +312,8 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             cell_ids.append(gid)
             split.append(np.zeros(len(data), bool))
         else:  # line3: [start, end, middle] -> start-middle, middle-end
+            if len(data) and data.max() < len(mesh.points) and data.min() >= 0:
+                line3_order(mesh.points, data, gid, src)
             two = np.stack([data[:, [0, 2]], data[:, [2, 1]]], axis=1).reshape(-1, 2)
             conn.append(two)
             cell_ids.append(np.repeat(gid, 2))
@@ -307,6 +330,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
                          f"has {len(mesh.points)} points (0 .. {len(mesh.points) - 1}); "
                          f"{outside.size} such cell(s)", source=src)
     ne_cells = int(sum(per_cell))
+    duplicate_cells(elements, cell_ids, src)
 
     def cf(ours, ncomp=None):
         a = _cell_field(mesh, study.field_name(ours), blocks, src, ncomp)
@@ -343,6 +367,10 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             if f is not None:
                 a = np.where(np.isnan(a), f, a)
         props[name] = a
+    if bar is not None and first_bad_flag_row(bar[:, None]) is not None:
+        i = first_bad_flag_row(bar[:, None])
+        raise InputError(f"field '{study.field_name('bar')}' must hold only 0 or 1; cell {cell_ids[i]} has "
+                         f"{bar[i]:g}", source=src)
     is_bar = np.zeros(len(elements), bool) if bar is None else bar.astype(bool)
     needed = ["E", "A"] + ([] if is_bar.all() else ["G", "Iy", "Iz", "J"])
     missing = [n for n in needed if props[n] is None]
@@ -359,6 +387,9 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
         if a is not None and np.isnan(a).any() and name not in ("Iw", "fy", "Asy", "Asz"):
             raise InputError(f"field '{study.field_name(name)}' has no value (NaN) for cell "
                              f"{cell_ids[np.flatnonzero(np.isnan(a))[0]]}", source=src)
+
+    section_errors(props, is_bar, cell_ids, study.field_name, src)
+    warnings = section_warnings(props, is_bar, cell_ids, study.field_name)
 
     # warping: the equivalent torsion constant is formed after the frame (framebuckle.twistlength)
     J = props["J"]
@@ -408,7 +439,8 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
     extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"],
              "twist_lengths": twist, "sections": section_info["_sections"] or None,
              "section_warnings": section_info["_section_warnings"] or [],
-             "compression": "positive" if study.compression_positive else "negative"}
+             "compression": "positive" if study.compression_positive else "negative",
+             "warnings": warnings}
     said = units.note(declared)
     if said:
         notes.append(said)
@@ -427,18 +459,28 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
     base = study.field_name("axial_force")
     sign = -1.0 if study.compression_positive else 1.0      # to tension positive
     cases = []
+    seen: dict[str, str] = {}
+
+    def add(label, field_name, a):
+        if label in seen:
+            raise InputError(f"load case name '{label}' comes from two fields, '{seen[label]}' and "
+                             f"'{field_name}' (case names must be unique); rename one", source=src)
+        seen[label] = field_name
+        cases.append(make_case(label, a, frame, src))
+
     if steps:
-        for t, pd, cd in steps:
+        tl = time_labels([t for t, _, _ in steps])
+        for (t, pd, cd), tlabel in zip(steps, tl):
             sub = meshio.Mesh(mesh.points, mesh.cells, cell_data=cd)
             for name in _case_fields(sub, base):
                 a = sign * np.repeat(_cell_field(sub, name, blocks, src), expand)
-                label = f"t={t:g}" if name == base else f"t={t:g}/{name[len(base) + 1:]}"
-                cases.append(make_case(label, a, frame, src))
+                label = tlabel if name == base else f"{tlabel}/{name[len(base) + 1:]}"
+                add(label, f"{name} at time {t!r}", a)
     else:
         for name in _case_fields(mesh, base):
             a = sign * np.repeat(_cell_field(mesh, name, blocks, src), expand)
             label = "default" if name == base else name[len(base) + 1:]
-            cases.append(make_case(label, a, frame, src))
+            add(label, name, a)
     cases = _recovered_cases(mesh, study, frame, src, steps, cases)
     if not steps:
         cases = _moment_cases(mesh, study, blocks, expand, frame, src, cases)
@@ -458,12 +500,22 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
     return cases
 
 
+def time_labels(times) -> list[str]:
+    """``t=<time>`` labels with as many digits as it takes to tell every step apart."""
+    for p in range(6, 18):
+        labels = [f"t={float(t):.{p}g}" for t in times]
+        if len(set(labels)) == len(labels):
+            return labels
+    return [f"t={float(t)!r}#{i + 1}" for i, t in enumerate(times)]
+
+
 def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
     """Cases from point displacements (and rotations), see :mod:`framebuckle.recover`."""
     from .recover import disagreement, displacement_fields, recover_case
     by_name = {c.name: i for i, c in enumerate(cases)}
     out = list(cases)
-    sources = [(f"t={t:g}", pd) for t, pd, _ in steps] if steps else [(None, mesh.point_data)]
+    sources = (list(zip(time_labels([t for t, _, _ in steps]), [pd for _, pd, _ in steps])) if steps
+               else [(None, mesh.point_data)])
     for prefix, pd in sources:
         for suffix, (dname, rname) in displacement_fields(pd, study).items():
             if prefix is None:

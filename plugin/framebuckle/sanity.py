@@ -262,7 +262,12 @@ def sign_warnings(axial_by_case: dict | None, compression_positive: bool = False
 
 
 def model_warnings(frame: Frame, axial_by_case: dict | None = None, units: dict | None = None,
-                   compression_positive: bool = False) -> list[str]:
-    """All plausibility warnings of a coarse (input) model."""
-    return (coincident_warnings(frame) + part_warnings(frame) + unit_warnings(frame, axial_by_case, units)
-            + sign_warnings(axial_by_case, compression_positive))
+                   compression_positive: bool = False, Iw=None) -> list[str]:
+    """All plausibility warnings of a coarse (input) model (rules of :mod:`framebuckle.plausible`
+    included: cell outliers, orientation near the axis, overlapping cells)."""
+    from .plausible import axis_warnings, outlier_warnings, overlap_warnings
+    with np.errstate(all="ignore"):
+        return (coincident_warnings(frame) + part_warnings(frame) + overlap_warnings(frame)
+                + outlier_warnings(frame, Iw) + axis_warnings(frame)
+                + unit_warnings(frame, axial_by_case, units)
+                + sign_warnings(axial_by_case, compression_positive))

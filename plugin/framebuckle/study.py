@@ -29,6 +29,27 @@ FIELD_DEFAULTS = {
 }
 
 _num = (int, float)
+#: largest integer a study file may hold (ids, counts): beyond it numpy would overflow
+MAX_INT = 2 ** 53
+
+
+@dataclass(frozen=True)
+class ListOf:
+    """Schema of an array: every item follows ``item`` (types, or another ListOf);
+    ``n`` = required number of items (None: any)."""
+
+    item: Any
+    n: int | None = None
+
+    @property
+    def __name__(self) -> str:          # used in "expected ..." messages
+        inner = self.item if isinstance(self.item, ListOf) else " or ".join(t.__name__ for t in self.item)
+        inner = getattr(inner, "__name__", inner)
+        return f"array of {'' if self.n is None else f'{self.n} '}{inner}"
+
+
+_ids = ListOf((int,))
+_flags6 = ListOf((int,), 6)
 _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", "G", "Asy", "Asz")}
 # sections from shape and dimensions (framebuckle.sections)
 _SHAPE_KEYS = {"shape": (str,), **{k: _num for k in DIMENSION_KEYS}}
@@ -37,20 +58,20 @@ _SHAPE_KEYS = {"shape": (str,), **{k: _num for k in DIMENSION_KEYS}}
 #: whose keys are free (integer ids) and whose values follow the inner schema.
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
-                 "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
+                 "cases": (ListOf((str,)),), "eigensolver": (str,), "mesh_check": (bool, str),
                  "moment_terms": (bool, str), "warping": (str,), "compression": (str,)},
-    "warping": {"supports": (str,), "points": (list,)},
+    "warping": {"supports": (str,), "points": (_ids,)},
     "units": {"force": (str,), "length": (str,), "stress": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
     "sections": {"key": (str,), "values": ("TABLE_OF", {**_SECTION_KEYS, **_SHAPE_KEYS})},
     "materials": {"key": (str,), "values": ("TABLE_OF", _SECTION_KEYS)},
-    "supports": ("LIST_OF", {"set": (str,), "box": {"min": (list,), "max": (list,)},
-                             "fix": (list, str), "points": (list,)}),
+    "supports": ("LIST_OF", {"set": (str,), "box": {"min": (ListOf(_num, 3),), "max": (ListOf(_num, 3),)},
+                             "fix": (_flags6, str), "points": (_ids,)}),
     "preload": {"case": (str,), "factor": (int, float)},
-    "releases": ("LIST_OF", {"set": (str,), "member": (list,), "cells": (list,),
-                             "start": (list, str), "end": (list, str)}),
+    "releases": ("LIST_OF", {"set": (str,), "member": (_ids,), "cells": (_ids,),
+                             "start": (_flags6, str), "end": (_flags6, str)}),
     # engineering check (check.py, codecheck.py, participation.py, effective.py)
-    "checks": {"min_alpha": _num, "codes": (list,), "analysis": (str,), "en1993_elastic_limit": _num,
+    "checks": {"min_alpha": _num, "codes": (ListOf((str,)),), "analysis": (str,), "en1993_elastic_limit": _num,
                "en1993_plastic_limit": _num, "en1993_amplify_limit": _num, "aisc_alpha": _num,
                "aisc_max_B2": _num, "fy": _num, "negligible_compression": _num, "twist_limit": _num,
                "sway_limit": _num, "energy_cut": _num, "member_share": _num, "sway_search_modes": (int,), "member_min_alpha": _num,
@@ -151,10 +172,31 @@ def _validate(data, schema, prefix, source):
                 raise InputError(f"unknown key '{name}'{hint}", source=source)
             _validate(v, schema[k], name, source)
         return
-    types = schema
-    if isinstance(data, bool) and bool not in types:
-        raise InputError(f"key '{prefix}' has the wrong type (bool); expected "
-                         f"{' or '.join(t.__name__ for t in types)}", source=source)
-    if not isinstance(data, types):
-        raise InputError(f"key '{prefix}' has the wrong type ({type(data).__name__}); expected "
-                         f"{' or '.join(t.__name__ for t in types)}", source=source)
+    _leaf(data, schema, prefix, source)
+
+
+def _type_names(types) -> str:
+    return " or ".join(t.__name__ for t in types)
+
+
+def _leaf(data, types, prefix, source, item=None):
+    """Check a value against a tuple of types and :class:`ListOf`; ``item`` = its index in an array."""
+    what = f"key '{prefix}'" if item is None else f"key '{prefix}' item {item}"
+    lists = [t for t in types if isinstance(t, ListOf)]
+    plain = tuple(t for t in types if not isinstance(t, ListOf))
+    if isinstance(data, list) and lists:
+        spec = lists[0]
+        if spec.n is not None and len(data) != spec.n:
+            raise InputError(f"{what} must have {spec.n} items, got {len(data)}", source=source)
+        for j, v in enumerate(data):
+            _leaf(v, spec.item if isinstance(spec.item, tuple) else (spec.item,), prefix, source,
+                  j if item is None else f"{item}[{j}]")
+        return
+    if (isinstance(data, bool) and bool not in plain) or not isinstance(data, plain or ()):
+        raise InputError(f"{what} has the wrong type ({type(data).__name__}"
+                         f"{' ' + repr(data)[:40] if item is not None else ''}); expected "
+                         f"{_type_names(types)}", source=source)
+    if isinstance(data, int) and not isinstance(data, bool) and abs(data) > MAX_INT:
+        raise InputError(f"{what} = {data} is out of range (at most {MAX_INT} in size)", source=source)
+    if isinstance(data, float) and data != data:
+        raise InputError(f"{what} is nan; give a number", source=source)
