@@ -1,6 +1,6 @@
 """Everything after the solve uses the matrices the solve used: end releases, end-moment terms
 and warping DOFs in the energies, shares, carrying members, sensitivities and the imperfection's
-end moments (framebuckle.solvedmatrices)."""
+end moments (framebuckle.engineering.solvedmatrices)."""
 
 import math
 
@@ -9,10 +9,10 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle.assemble import Assembler
-from framebuckle.check import run_check
-from framebuckle.participation import case_energies, element_energies
-from framebuckle.solvedmatrices import for_case
+from framebuckle.mechanics.assemble import Assembler
+from framebuckle.engineering.check import run_check
+from framebuckle.engineering.participation import case_energies, element_energies
+from framebuckle.engineering.solvedmatrices import for_case
 
 import frames as F
 

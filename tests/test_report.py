@@ -12,7 +12,7 @@ import pytest
 from PIL import Image
 
 import framebuckle as fb
-from framebuckle import plots, report
+from framebuckle.pictures import plots, report
 
 import picture_models as pm
 

@@ -14,7 +14,7 @@ from pathlib import Path
 
 from . import __version__
 from .errors import FrameBuckleError
-from .results import CAUTIONS
+from .pipeline.results import CAUTIONS
 
 
 def _positive_int(text):
@@ -104,10 +104,10 @@ def _window(text):
 
 def cmd_render(args) -> int:
     from .errors import InputError
-    from .progress import Progress
-    from .render import picture_name, render_all
-    from .viewer import load_modes, result_stem
-    from .write import prepare_dir
+    from .io.progress import Progress
+    from .pictures.render import picture_name, render_all
+    from .pictures.viewer import load_modes, result_stem
+    from .io.write import prepare_dir
     if args.scale is not None and not (args.scale >= 0 and args.scale < float("inf")):
         raise InputError(f"--scale must be a finite number >= 0, got {args.scale}")
     with Progress(0, "solve") as bar:
@@ -136,13 +136,13 @@ def cmd_render(args) -> int:
 
 
 def cmd_view(args) -> int:
-    from .render import has_display
+    from .pictures.render import has_display
     if not has_display():
         print("framebuckle: error: no display (DISPLAY and WAYLAND_DISPLAY are not set), so no window "
               f"can open; write pictures instead: framebuckle render {args.input} --out DIR",
               file=sys.stderr)
         return 2
-    from .viewer import build_viewer, load_modes
+    from .pictures.viewer import build_viewer, load_modes
     ms, _ = load_modes(args.input, args.study, args.modes, args.subdivide)
     plotter, _ = build_viewer(ms, args.case, args.mode)
     print("caution: " + " ".join(CAUTIONS))
@@ -151,10 +151,10 @@ def cmd_view(args) -> int:
 
 
 def cmd_report(args) -> int:
-    from .api import solve
-    from .progress import Progress
-    from .report import make_report
-    from .study import load_study
+    from .pipeline.api import solve
+    from .io.progress import Progress
+    from .pictures.report import make_report
+    from .io.study import load_study
     study = load_study(args.study) if args.study else None
     with Progress(0, "solve") as bar:
         result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
@@ -206,9 +206,9 @@ def print_result(result, paths, stream=None):
 
 def cmd_solve(args) -> int:
     import time
-    from .api import solve
-    from .progress import Progress
-    from .write import write_result
+    from .pipeline.api import solve
+    from .io.progress import Progress
+    from .io.write import write_result
     with Progress(0, "solve") as bar:      # drawn only on a terminal
         result = solve(args.input, args.study, modes=args.modes, subdivide=args.subdivide,
                        sturm_worker=True, progress=bar)
@@ -228,8 +228,8 @@ def cmd_solve(args) -> int:
 
 def cmd_batch(args) -> int:
     from .batch import expand_inputs, run_batch, write_table
-    from .progress import Progress
-    from .write import prepare_dir
+    from .io.progress import Progress
+    from .io.write import prepare_dir
     from .errors import OutputError
     out = prepare_dir(Path(args.out))
     if not args.force and ((out / "batch.csv").exists() or (out / "batch.json").exists()):
@@ -263,9 +263,9 @@ def cmd_check(args) -> int:
     """Exit 0 when every case passes, 1 when any fails (2 on bad input, from main)."""
     import json
 
-    from .api import _as_study, solve
-    from .check import format_table, run_check, write_check
-    from .write import _jsonable
+    from .pipeline.api import _as_study, solve
+    from .engineering.check import format_table, run_check, write_check
+    from .io.write import _jsonable
     study = _as_study(args.study)
     result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
     report = run_check(result, study, args.min_alpha)

@@ -23,15 +23,15 @@ from .globalmode import MEMBER_TEXT, lowest_sway, sway_text
 from .globalmode import verdicts as verdicts_of
 from .effective import (MEMBER_SHARE, NEGLIGIBLE, design_lengths, design_summary, effective_lengths,
                         member_forces)
-from .errors import InputError, OutputError
+from ..errors import InputError, OutputError
 from .imperfection import imperfect_grid, scale_for
-from .members import Members, group_members
+from ..mechanics.members import Members, group_members
 from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, case_energies, chord_work,
                             participation)
-from .results import CAUTIONS
+from ..pipeline.results import CAUTIONS
 from .sensitivity import bending_sensitivity, ranking, repeated
-from .study import Study
-from .upward import MAX_MODES
+from ..io.study import Study
+from ..solver.upward import MAX_MODES
 
 #: a mode below this load factor buckles under the design loads themselves: no member design
 #: can pass (N_Ed > N_cr gives chi A fy < N_cr < N_Ed, EN 1993-1-1:2005 6.3.1.2); [checks] member_min_alpha
@@ -45,7 +45,7 @@ CSV_COLUMNS = ("case", "row_type", "mode", "governing_mode", "load_factor", "mod
                "L_cr", "L_cr_ratio", "slenderness", "energy_share", "relative_share", "sensitivity",
                "sensitivity_rank", "design_rank")
 
-# per case: the global sway mode's load factor, or its certified lower bound (framebuckle.globalmode)
+# per case: the global sway mode's load factor, or its certified lower bound (framebuckle.engineering.globalmode)
 CSV_COLUMNS += ("alpha_cr_sway", "alpha_cr_sway_min")
 
 #: load factors closer than this (relative) are a cluster: sensitivities marked indicative
@@ -145,7 +145,7 @@ def _validate_settings(st: dict, source: str):
 
 
 def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
-    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.results.Result`."""
+    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.pipeline.results.Result`."""
     study = study or Study()
     st = _settings(study)
     _validate_settings(st, study.source)
@@ -432,7 +432,7 @@ def format_table(report: CheckReport) -> str:
 
 def write_check(result, report: CheckReport, out_dir, force: bool = False) -> dict:
     """Write modes (with member cell fields), fine modes, summary, members CSV, imperfect mesh."""
-    from .write import (fine_grid, input_grid, output_stem, prepare_dir, write_grid, write_json,
+    from ..io.write import (fine_grid, input_grid, output_stem, prepare_dir, write_grid, write_json,
                         write_text)
     out = prepare_dir(Path(out_dir))
     stem = output_stem(result.input.source)

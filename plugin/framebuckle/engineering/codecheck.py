@@ -23,7 +23,7 @@ with :math:`\alpha P_{story} \ge P_{e,story}` is unstable.
 
 Both EN 1993-1-1 clauses concern instability in a *global sway* mode: ``check`` passes
 the lowest load factor of a global sway mode, :math:`\alpha_{cr,sway}`
-(:mod:`framebuckle.globalmode`), or, when no sway mode lies below a bound ``B``, that
+(:mod:`framebuckle.engineering.globalmode`), or, when no sway mode lies below a bound ``B``, that
 certified lower bound (``alpha_min``: :math:`\alpha_{cr,sway} \ge B`).  A lower bound
 decides a verdict only when it is at or above the limit; the amplifier from a bound is an
 upper bound of the amplifier (safe to use).

@@ -45,9 +45,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .elements import local_axes
-from .members import Members
-from .model import Frame
+from ..mechanics.elements import local_axes
+from ..mechanics.members import Members
+from ..model.model import Frame
 
 #: compression below this fraction of the case's largest compression is negligible
 NEGLIGIBLE = 1e-3

@@ -2,13 +2,13 @@ r"""The lowest global sway mode of a case, on which the EN 1993-1-1 5.2.1(3) / 5
 
 EN 1993-1-1:2005 clauses 5.2.1(3) and 5.2.2 concern instability in a *global sway* mode.  A
 mode is ``sway`` when its chord share (the part of the translational geometric work done by
-the rigid chord rotation of the members, :mod:`framebuckle.participation`) is at least the
+the rigid chord rotation of the members, :mod:`framebuckle.engineering.participation`) is at least the
 sway limit (0.5): the joints move sideways relative to each other.  Members are physical
-members (:mod:`framebuckle.members`: a column meshed in 1 or 10 cells is one member) and the
+members (:mod:`framebuckle.mechanics.members`: a column meshed in 1 or 10 cells is one member) and the
 work integrals converge with the sub-division, so the type does not depend on mesh density.
 
 :func:`lowest_sway` takes the case's modes; when none is ``sway`` it extends the solution
-upward with the case's own matrices (:func:`framebuckle.upward.search_upward`) until a sway
+upward with the case's own matrices (:func:`framebuckle.solver.upward.search_upward`) until a sway
 mode appears, or a Sturm count proves that no sway load factor lies below the bound ``B``
 (then ``alpha_cr_sway >= B``, a certified lower bound).  Modes below the sway mode are member
 buckling, to be covered by member design with the effective lengths.
@@ -19,7 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from .participation import chord_work, element_energies, participation
-from .upward import MAX_MODES, search_upward
+from ..solver.upward import MAX_MODES, search_upward
 
 MEMBER_TEXT = "member buckling (cover by member design with the effective lengths)"
 

@@ -43,7 +43,7 @@ import math
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 #: EN 1993-1-1:2005 Table 6.1 imperfection factors
 CURVE_ALPHA = {"a0": 0.13, "a": 0.21, "b": 0.34, "c": 0.49, "d": 0.76}
@@ -75,7 +75,7 @@ def end_moments(fine, mode: np.ndarray, axial: np.ndarray | None, alpha: float,
     the bending moments :math:`E I \eta''` of the mode at the sub-division
     points, far more accurate than the Hermite curvature of the displacements
     (for a pinned column with 8 sub-elements: 3e-5 against 1.3e-2 relative error).
-    ``fine`` is the case's :class:`~framebuckle.solvedmatrices.CaseMatrices` (the matrices
+    ``fine`` is the case's :class:`~framebuckle.engineering.solvedmatrices.CaseMatrices` (the matrices
     the solve used: a released end has zero rows in them, so its moment is zero) or the
     refined Frame with its ``axial`` forces.  Returns arrays over the beam sub-elements of
     ``which`` in element order.

@@ -2,7 +2,7 @@ r"""Strain energy of buckling modes per member, and the type of each mode.
 
 For a mode :math:`\phi` of the refined model and each sub-element ``e`` with
 local displacements :math:`u_e = T_e \phi_e` and the element matrices the solve
-assembled (:mod:`framebuckle.solvedmatrices`: end releases condensed, shear,
+assembled (:mod:`framebuckle.engineering.solvedmatrices`: end releases condensed, shear,
 end-moment terms, warping DOFs) the strain energy splits exactly (the local
 elastic matrix, condensed or not, is block-diagonal in these DOF groups) into
 
@@ -47,7 +47,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .model import Frame
+from ..model.model import Frame
 
 #: twist share of the strain energy from which a mode is "torsional"
 TWIST_LIMIT = 0.5
@@ -87,11 +87,11 @@ def element_energies(fine, modes: np.ndarray, axial: np.ndarray | None = None,
                      warping_modes: np.ndarray | None = None) -> Energies:
     """Energies of modes ``(k, n_nodes, 6)`` per sub-element.
 
-    ``fine`` is a :class:`~framebuckle.solvedmatrices.CaseMatrices` (what the solve of the
+    ``fine`` is a :class:`~framebuckle.engineering.solvedmatrices.CaseMatrices` (what the solve of the
     case assembled: releases condensed, shear, end-moment terms, warping DOFs; see
     :func:`case_energies`), or the refined Frame with its ``axial`` forces (axial terms only,
     for models solved without moment terms or warping DOFs).  Vectorised over all
-    sub-elements (in blocks of :data:`framebuckle.solvedmatrices.CHUNK`) and modes.
+    sub-elements (in blocks of :data:`framebuckle.engineering.solvedmatrices.CHUNK`) and modes.
     """
     from .solvedmatrices import CaseMatrices
     cm = fine if isinstance(fine, CaseMatrices) else CaseMatrices(fine, np.asarray(axial, float), None, None)

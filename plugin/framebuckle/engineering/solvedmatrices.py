@@ -8,14 +8,14 @@ that carry nothing are named as carrying the mode.  The blocks below are built
 by the same functions as the assembly:
 
 * elastic and unit-force geometric stiffness from
-  :func:`framebuckle.elements.local_matrices` (shear flexibility, end releases
-  condensed: :math:`C^T K C`, :math:`C^T G C`), as :class:`~framebuckle.assemble.Assembler`;
+  :func:`framebuckle.mechanics.elements.local_matrices` (shear flexibility, end releases
+  condensed: :math:`C^T K C`, :math:`C^T G C`), as :class:`~framebuckle.mechanics.assemble.Assembler`;
 * the end-moment terms, when the solve used them for this case, from
-  :func:`framebuckle.moments.moment_geometric_condensed`, as the pipeline's
+  :func:`framebuckle.mechanics.moments.moment_geometric_condensed`, as the pipeline's
   case geometric stiffness;
 * with warping DOFs, the 14 x 14 matrices of
-  :func:`framebuckle.warping.local14_condensed` / ``moment14_condensed`` for the
-  elements with ``Iw``, as :class:`~framebuckle.warping.WarpingAssembler`.
+  :func:`framebuckle.solver.warping.local14_condensed` / ``moment14_condensed`` for the
+  elements with ``Iw``, as :class:`~framebuckle.solver.warping.WarpingAssembler`.
 
 A released DOF has zero rows and columns in the condensed matrices, so the
 quadratic forms :math:`u^T \tilde K u` with the element's nodal DOFs are the
@@ -32,7 +32,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .elements import element_dofs, local_matrices
+from ..mechanics.elements import element_dofs, local_matrices
 
 #: sub-elements per block (bounds memory to ~100 MB)
 CHUNK = 20000
@@ -99,14 +99,14 @@ class CaseMatrices:
         N = self.axial[sel]
         G = Gl * N[:, None, None]
         if self.moments is not None:
-            from .moments import moment_geometric_condensed
+            from ..mechanics.moments import moment_geometric_condensed
             G = G + moment_geometric_condensed(sub, self.moments[sel], local)
         dofs = element_dofs(sub)
         if self.warping is None:
             yield Block(sel, Kl, G, T, dofs, GROUPS12)
             return
-        from .elements import shear_parameters
-        from .warping import local14_condensed, moment14_condensed
+        from ..mechanics.elements import shear_parameters
+        from ..solver.warping import local14_condensed, moment14_condensed
         Iw, Jraw, wdof = self.warping
         w = np.flatnonzero((Iw[sel] > 0) & ~fine.bar[sel])
         s = np.setdiff1d(np.arange(len(sel)), w)
@@ -142,7 +142,7 @@ def for_case(result, case) -> CaseMatrices:
     axial = np.asarray(ref.fine_axial(lc.axial), float)
     moments = None
     if getattr(c, "moment_terms", False):
-        from .moments import fine_moments
+        from ..mechanics.moments import fine_moments
         moments = fine_moments(ref, lc.extra["moments"])
     warping = None
     if result.settings.get("warping") == "dof" and im.extra.get("Iw") is not None:

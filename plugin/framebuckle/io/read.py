@@ -9,13 +9,13 @@ Input contract (default field names; a study file may rename them):
   ``orientation`` (3 components), ``bar`` (1 = pin-ended axial-only member).
 * point field ``restraint`` (n, 6) of 0/1 for [ux, uy, uz, rx, ry, rz].
 * optional cell fields ``release_start``, ``release_end`` (6 components of 0/1,
-  local [N, Vy, Vz, T, My, Mz], 1 = released), see :mod:`framebuckle.releases`.
+  local [N, Vy, Vz, T, My, Mz], 1 = released), see :mod:`framebuckle.model.releases`.
 * instead of (or beside) an axial force: point fields ``displacement`` (n, 3)
   and optional ``rotation`` (n, 3), or ``displacement.<case>`` /
-  ``rotation.<case>``; forces recovered by :mod:`framebuckle.recover`.
+  ``rotation.<case>``; forces recovered by :mod:`framebuckle.io.recover`.
 * optional cell fields ``Asy``, ``Asz``: shear areas (Timoshenko beams).
 * optional cell fields ``moment_start``, ``moment_end`` (or ``.<case>``): internal
-  end moments [T, My, Mz] in local axes, see :mod:`framebuckle.moments`.
+  end moments [T, My, Mz] in local axes, see :mod:`framebuckle.mechanics.moments`.
 * XDMF time series: each time step is a load case.
 """
 
@@ -30,11 +30,11 @@ from pathlib import Path
 import meshio
 import numpy as np
 
-from .errors import InputError
-from .model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
-from .releases import read_releases
+from ..errors import InputError
+from ..model.model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
+from ..model.releases import read_releases
 from .study import SUPPORT_KINDS, Study
-from .twistlength import EQUIVALENT_NOTE, twist_lengths
+from ..mechanics.twistlength import EQUIVALENT_NOTE, twist_lengths
 
 LINE_TYPES = ("line", "line3")
 SECTION_KEYS = ("E", "G", "A", "Iy", "Iz", "J")
@@ -337,7 +337,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
             raise InputError(f"field '{study.field_name(name)}' has no value (NaN) for cell "
                              f"{cell_ids[np.flatnonzero(np.isnan(a))[0]]}", source=src)
 
-    # warping: the equivalent torsion constant is formed after the frame (framebuckle.twistlength)
+    # warping: the equivalent torsion constant is formed after the frame (framebuckle.mechanics.twistlength)
     J = props["J"]
     Iw = props["Iw"]
     if Iw is not None:
@@ -428,7 +428,7 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
 
 
 def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
-    """Cases from point displacements (and rotations), see :mod:`framebuckle.recover`."""
+    """Cases from point displacements (and rotations), see :mod:`framebuckle.io.recover`."""
     from .recover import disagreement, displacement_fields, recover_case
     by_name = {c.name: i for i, c in enumerate(cases)}
     out = list(cases)
@@ -463,8 +463,8 @@ def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
 
 
 def _moment_cases(mesh, study, blocks, expand, frame, src, cases) -> list[LoadCase]:
-    """Attach cell fields ``moment_start``/``moment_end`` (see :mod:`framebuckle.moments`) to cases."""
-    from .moments import read_moment_fields
+    """Attach cell fields ``moment_start``/``moment_end`` (see :mod:`framebuckle.mechanics.moments`) to cases."""
+    from ..mechanics.moments import read_moment_fields
     fields = read_moment_fields(list(mesh.cell_data),
                                 lambda n: np.repeat(_cell_field(mesh, n, blocks, src, 3), expand, axis=0),
                                 study, frame.parent, src)

@@ -13,7 +13,7 @@ For a case given by point fields ``displacement`` (n, 3) and optionally
   :math:`f = \tilde k\, T u_e` (the element's elastic stiffness after end
   release condensation), and the end moments in the positive-face convention
   are ``moment_start = -f[3:6]``, ``moment_end = f[9:12]`` (local [T, My, Mz];
-  see :mod:`framebuckle.moments`).
+  see :mod:`framebuckle.mechanics.moments`).
 
 Both are exact for the linear run's own beam elements when the input cells are
 those elements and no load acts between nodes.  Member loads between nodes
@@ -28,9 +28,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from .elements import local_axes
-from .errors import InputError
-from .model import Frame
+from ..mechanics.elements import local_axes
+from ..errors import InputError
+from ..model.model import Frame
 
 
 def axial_from_elongation(frame: Frame, displacement: np.ndarray) -> np.ndarray:
@@ -43,8 +43,8 @@ def axial_from_elongation(frame: Frame, displacement: np.ndarray) -> np.ndarray:
 
 def element_end_forces(frame: Frame, displacements: np.ndarray) -> np.ndarray:
     """End forces acting on each element in local axes, (e, 12): ``k T u_e`` for (n, 6) displacements
-    (:func:`framebuckle.static.member_forces` without member loads)."""
-    from .static import member_forces
+    (:func:`framebuckle.solver.static.member_forces` without member loads)."""
+    from ..solver.static import member_forces
     return np.array(member_forces(frame, displacements).local)
 
 

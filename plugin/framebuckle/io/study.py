@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from .errors import InputError
+from ..errors import InputError
 
 #: Field names the reader looks for, and their defaults in the file.
 FIELD_DEFAULTS = {

@@ -18,7 +18,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import OutputError
+from ..errors import OutputError
 
 
 @contextmanager

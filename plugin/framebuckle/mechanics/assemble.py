@@ -15,7 +15,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from .elements import element_dofs, element_matrices
-from .model import Frame
+from ..model.model import Frame
 
 
 @dataclass(frozen=True)

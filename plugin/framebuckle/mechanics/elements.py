@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .model import Frame
+from ..model.model import Frame
 
 
 def local_axes(frame: Frame) -> tuple[np.ndarray, np.ndarray]:
@@ -215,7 +215,7 @@ def local_matrices(frame: Frame):
         Gl[b] = bar_geometric_local(L[b])
     C = None
     if frame.release is not None and frame.release.any():
-        from .releases import condensation, condense
+        from ..model.releases import condensation, condense
         r = np.flatnonzero(frame.release.any(axis=1))
         C = np.broadcast_to(np.eye(12), Kl.shape).copy()
         C[r] = condensation(Kl[r], frame.release[r], frame.parent[r], frame.source)

@@ -33,8 +33,8 @@ import scipy.sparse as sp
 import scipy.sparse.csgraph as csgraph
 
 from .elements import local_axes
-from .errors import InputError
-from .model import Frame
+from ..errors import InputError
+from ..model.model import Frame
 
 #: 1 + cos(angle) between the two cells' directions away from the joint
 COLLINEAR_TOL = 1e-8

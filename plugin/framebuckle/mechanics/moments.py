@@ -51,7 +51,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 #: Gauss-Legendre points and weights on [0, 1]
 _GP = (np.array([-np.sqrt(0.6), 0.0, np.sqrt(0.6)]) + 1) / 2
@@ -114,9 +114,9 @@ def fine_moments(refined, moments: np.ndarray) -> np.ndarray:
 def moment_geometric_condensed(frame, moments, local) -> np.ndarray:
     """Local element matrices (e, 12, 12) of the moment terms, condensed for end releases like
     the other element matrices; ``local = elements.local_matrices(frame)``.  The assembly
-    (:func:`moment_geometric_global`) and the energies (:mod:`framebuckle.solvedmatrices`) use it."""
+    (:func:`moment_geometric_global`) and the energies (:mod:`framebuckle.engineering.solvedmatrices`) use it."""
     from .elements import shear_parameters
-    from .releases import condense
+    from ..model.releases import condense
     C = local[3]
     L = frame.lengths()
     phi = shear_parameters(frame, L, slice(None))

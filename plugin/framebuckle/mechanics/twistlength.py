@@ -21,7 +21,7 @@ Beam cells (not bars) are chained through a point when
 * exactly two beam cells meet there (bars at the point are ignored: a pin-ended
   bar on the member axis gives no twisting stiffness),
 * the two cells are collinear (:data:`COLLINEAR_TOL`, as in
-  :mod:`framebuckle.members`),
+  :mod:`framebuckle.mechanics.members`),
 * the twist about their axis is not restrained at the point (the restrained
   rotation components of the point's ``restraint`` span the axis), and
 * with a ``member`` cell field, both cells have the same ``member`` value
@@ -36,7 +36,7 @@ identity fails) when ``E Iw`` is not the same in all its cells (a step, a taper,
 a cell without ``Iw``) or when the twist is released at one of its interior
 points.  Such segments are listed in :attr:`TwistLengths.undefined`; with
 ``[analysis] warping = "auto"`` (the default) the model then runs with the
-warping DOF (:mod:`framebuckle.warping`), which needs no length.  For an explicit
+warping DOF (:mod:`framebuckle.solver.warping`), which needs no length.  For an explicit
 ``"equivalent"`` they are cut into uniform, unreleased pieces (with a warning).
 """
 
@@ -50,7 +50,7 @@ import scipy.sparse as sp
 import scipy.sparse.csgraph as csgraph
 
 from .members import COLLINEAR_TOL, SAME_TOL
-from .model import Frame
+from ..model.model import Frame
 
 #: note of every model with Iw run without warping DOFs (api drops it when they run)
 EQUIVALENT_NOTE = ("warping constant Iw given: torsion uses J + pi^2 E Iw / (G L^2) with L the length "

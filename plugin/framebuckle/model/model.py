@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 DOF_NAMES = ("ux", "uy", "uz", "rx", "ry", "rz")
 SECTION_FIELDS = ("E", "G", "A", "Iy", "Iz", "J")

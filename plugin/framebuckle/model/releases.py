@@ -25,7 +25,7 @@ Analysis, 2nd ed., sec. 13.4 on condensation; Przemieniecki 1968, Theory of
 Matrix Structural Analysis, ch. 6).
 
 Only the end elements of a sub-divided input cell are released (see
-:func:`framebuckle.refine.subdivide`): the start release on the first
+:func:`framebuckle.model.refine.subdivide`): the start release on the first
 sub-element's start, the end release on the last sub-element's end.
 """
 
@@ -33,7 +33,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import InputError, ModelError
+from ..errors import InputError, ModelError
 
 COMPONENTS = ("N", "Vy", "Vz", "T", "My", "Mz")
 #: named release patterns accepted in the study file (per end)

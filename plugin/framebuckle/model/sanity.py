@@ -9,7 +9,7 @@ These look for the usual modelling slips in files written by other programs:
   connected, which usually is an export or meshing error;
 * **separate parts**: the members form more than one connected group.
 
-Every function takes plain arrays (a :class:`~framebuckle.model.Frame` and
+Every function takes plain arrays (a :class:`~framebuckle.model.model.Frame` and
 axial forces) and returns a list of messages; nothing here touches files.
 
 Unit heuristic (common practice; orders of magnitude of structural materials,

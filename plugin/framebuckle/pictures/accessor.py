@@ -2,9 +2,9 @@
 
 Registered through the ``pyvista.accessors`` entry point (``pyproject.toml``),
 so after ``pip install framebuckle`` any PyVista dataset has it, imported
-lazily on first use; ``import framebuckle.accessor`` registers it explicitly.
+lazily on first use; ``import framebuckle.pictures.accessor`` registers it explicitly.
 
-The grid must follow the input contract of :mod:`framebuckle.read`: line
+The grid must follow the input contract of :mod:`framebuckle.io.read`: line
 cells with the cell fields ``axial_force[.<case>]``, ``E``, ``G``, ``A``,
 ``Iy``, ``Iz``, ``J`` (optional ``orientation``, ``bar`` ...) and the point
 field ``restraint``.
@@ -23,7 +23,7 @@ from __future__ import annotations
 import numpy as np
 import pyvista as pv
 
-from .errors import InputError
+from ..errors import InputError
 
 NAME = "buckle"
 
@@ -36,8 +36,8 @@ class Buckle:
         self.result = None
 
     def solve(self, study=None, *, modes: int | None = None, subdivide: int | None = None, **kw):
-        """Solve (see :func:`framebuckle.solve`); return the :class:`~framebuckle.results.Result`."""
-        from .api import solve
+        """Solve (see :func:`framebuckle.solve`); return the :class:`~framebuckle.pipeline.results.Result`."""
+        from ..pipeline.api import solve
         mesh = to_meshio(self._grid)
         self.result = solve(mesh, study, modes=modes, subdivide=subdivide, **kw)
         return self.result

@@ -44,7 +44,7 @@ def png_bytes(fig) -> bytes:
 
 
 def save(fig, path):
-    from .write import atomic_path
+    from ..io.write import atomic_path
     with atomic_path(path) as tmp:
         tmp.write_bytes(png_bytes(fig))
     return path

@@ -3,7 +3,7 @@
 One picture per mode holds four views (isometric, plan X-Y, elevations X-Z
 and Y-Z; Z is up).  The undeformed structure is drawn thin and grey; the
 buckled shape as tubes along the cubic Hermite curve of every element
-(:mod:`framebuckle.shapes`), coloured by the displacement magnitude of the
+(:mod:`framebuckle.pictures.shapes`), coloured by the displacement magnitude of the
 normalised mode (largest node translation = 1) with the colour-blind-safe
 ``viridis`` map and a labelled colour bar.  The shape is scaled so that its
 largest displacement is :data:`AUTO_SCALE` of the model size (largest extent
@@ -24,8 +24,8 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import OutputError
-from .write import atomic_path
+from ..errors import OutputError
+from ..io.write import atomic_path
 
 #: drawn amplitude of the largest displacement as a share of the model size
 AUTO_SCALE = 0.10
@@ -216,7 +216,7 @@ def picture_name(stem: str, case: str, k: int, ext: str = "png") -> str:
 def render_all(ms, out_dir, stem, cases=None, modes=(1,), scale=None, animate=False,
                window=WINDOW, progress=None) -> list[Path]:
     """Pictures (and GIFs) of ``modes`` of every case in ``cases`` (default all with modes)."""
-    from .progress import Progress
+    from ..io.progress import Progress
     out = Path(out_dir)
     chosen = [ms.case(n) for n in cases] if cases else [c for c in ms.cases if len(c.load_factors)]
     jobs = [(c, k) for c in chosen for k in (modes or range(1, len(c.load_factors) + 1))]

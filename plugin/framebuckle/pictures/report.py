@@ -12,7 +12,7 @@ size, margins, no picture split across pages).
 Governing members are the input cells that carry the largest share of the
 elastic strain energy ``u_e^T K_e u_e / 2`` of the first mode (summed over
 the sub-elements of each cell).  When the engineering check
-(:mod:`framebuckle.check`) is installed, its members and verdicts are used instead, and members
+(:mod:`framebuckle.engineering.check`) is installed, its members and verdicts are used instead, and members
 are ranked by what governs them: the member critical factor N_cr / |N_Ed| from each member's
 governing mode (the lowest mode in which it takes part), lowest first; not by the largest
 L_cr / L, which a lightly loaded member reaches in a mode it takes no part in.
@@ -27,8 +27,8 @@ from pathlib import Path
 
 import numpy as np
 
-from . import __version__
-from .results import CAUTIONS
+from .. import __version__
+from ..pipeline.results import CAUTIONS
 
 #: governing members listed per case
 N_GOVERNING = 5
@@ -96,8 +96,8 @@ def verdict_band(alpha, thresholds=(3.0, 10.0, 15.0)) -> str:
 
 def energy_shares(result, case, k: int = 1) -> np.ndarray:
     """Share of mode ``k``'s elastic strain energy in every input element, shape (e_input,)."""
-    from .participation import element_energies
-    from .solvedmatrices import for_case
+    from ..engineering.participation import element_energies
+    from ..engineering.solvedmatrices import for_case
     c = result.case(case)
     wm = None if c.warping_modes is None else c.warping_modes[k - 1:k]
     energy = element_energies(for_case(result, c), c.modes[k - 1:k], warping_modes=wm).strain[0]
@@ -131,7 +131,7 @@ def model_stats(result) -> list[tuple[str, str]]:
 def _check(result, study):
     """The engineering check if that stage is installed, else None."""
     try:
-        from .check import run_check
+        from ..engineering.check import run_check
     except ImportError:
         return None
     return run_check(result, study)
@@ -335,15 +335,15 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
     """Render the pictures and plots, assemble and write ``<stem>.report.html``; return its path."""
     from . import plots as pl
     from . import render
-    from .progress import Progress
+    from ..io.progress import Progress
     from .shapes import from_result
-    from .write import output_stem, prepare_dir, write_text
+    from ..io.write import output_stem, prepare_dir, write_text
     out = prepare_dir(Path(out_dir))
     stem = stem or output_stem(result.input.source)
     target = out / f"{stem}.report.html"
     protect = [result.input.source] if result.input.source and not result.input.source.startswith("<") else []
     if target.exists() and not force:
-        from .errors import OutputError
+        from ..errors import OutputError
         raise OutputError("output exists; use --force to replace it", source=str(target))
     check = _check(result, study)
     ms = from_result(result)

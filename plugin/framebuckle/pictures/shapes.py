@@ -19,7 +19,7 @@ transverse slope is ``theta x e_x`` in any local y-z pair), so a result file
 without orientations draws the same curve.
 
 The second half of the module reads what is needed for pictures, either from
-a :class:`~framebuckle.results.Result` or from a ``<stem>.modes_fine.vtu``
+a :class:`~framebuckle.pipeline.results.Result` or from a ``<stem>.modes_fine.vtu``
 written by ``solve`` (:class:`ModeSet`), without solving again.
 """
 
@@ -31,9 +31,9 @@ from pathlib import Path
 
 import numpy as np
 
-from .elements import local_axes, transformation
-from .errors import InputError
-from .model import make_frame
+from ..mechanics.elements import local_axes, transformation
+from ..errors import InputError
+from ..model.model import make_frame
 
 #: points per element along a drawn curve (ends included)
 DEFAULT_SAMPLES = 6
@@ -152,7 +152,7 @@ class ModeSet:
 
 
 def from_result(result) -> ModeSet:
-    """The fine model and modes of a :class:`~framebuckle.results.Result`."""
+    """The fine model and modes of a :class:`~framebuckle.pipeline.results.Result`."""
     f = result.fine
     cases = tuple(CaseModes(c.name, np.asarray(c.load_factors, float), np.asarray(c.modes, float),
                             c.message()) for c in result.cases)
@@ -204,7 +204,7 @@ def from_grid(grid, source: str = "<grid>") -> ModeSet:
         msg = "" if len(lam) else "no compression or no positive load factor in this case"
         cases.append(CaseModes(name, lam, modes, msg))
     nodes = np.asarray(grid.points, float)
-    from .model import default_orientation
+    from ..model.model import default_orientation
     return ModeSet(nodes, elements, bar, default_orientation(nodes, elements), tuple(cases),
                    source, np.asarray(cell_id, np.int64))
 

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 RESULT_SUFFIXES = (".modes_fine.vtu", ".modes.vtu")
 SLIDER = {"style": "modern", "title_height": 0.018, "slider_width": 0.015, "tube_width": 0.004,
@@ -21,7 +21,7 @@ SLIDER = {"style": "modern", "title_height": 0.018, "slider_width": 0.015, "tube
 
 
 def result_stem(path) -> str:
-    from .write import output_stem
+    from ..io.write import output_stem
     name = Path(path).name
     for suf in RESULT_SUFFIXES:
         if name.endswith(suf):
@@ -43,7 +43,7 @@ def load_modes(path, study=None, modes=None, subdivide=None, progress=None):
             raise InputError(f"cannot read the mesh ({type(exc).__name__}: {exc})", source=str(p)) from None
         if is_result_grid(grid):
             return from_grid(grid, str(p)), None
-    from .api import solve
+    from ..pipeline.api import solve
     result = solve(str(p), study, modes=modes, subdivide=subdivide, progress=progress)
     return from_result(result), result
 

@@ -8,18 +8,19 @@ from pathlib import Path
 
 import numpy as np
 
-from . import adequacy as _adequacy
-from . import sanity, verify
-from . import preload as _preload
-from . import warping as _warping
-from .assemble import Assembler
-from .errors import InputError, ModelError, SolverError
-from .read import InputModel, read_input
-from .refine import subdivide as _subdivide
+from ..solver import adequacy as _adequacy
+from ..model import sanity
+from ..solver import verify
+from ..solver import preload as _preload
+from ..solver import warping as _warping
+from ..mechanics.assemble import Assembler
+from ..errors import InputError, ModelError, SolverError
+from ..io.read import InputModel, read_input
+from ..model.refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
-from .solve import buckling_modes, check_supported, factorize, find_constraints
-from .study import Study, load_study, study_from_dict
-from .twistlength import EQUIVALENT_NOTE
+from ..solver.solve import buckling_modes, check_supported, factorize, find_constraints
+from ..io.study import Study, load_study, study_from_dict
+from ..mechanics.twistlength import EQUIVALENT_NOTE
 
 DEFAULT_MODES = 4
 DEFAULT_SUBDIVIDE = 8
@@ -45,26 +46,26 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
 
     Parameters
     ----------
-    inp : path, ``meshio.Mesh`` or :class:`~framebuckle.read.InputModel`
+    inp : path, ``meshio.Mesh`` or :class:`~framebuckle.io.read.InputModel`
     study : path of a TOML study file, a dict of the same content, or a Study
     modes : number of load factors per case (default 4)
     subdivide : sub-elements per beam cell (default 8)
     planar : ``"auto"`` (default), ``True`` or ``False``
     method : eigensolver: ``"auto"``, ``"dense"``, ``"arpack"`` or ``"block"``
     preload : name of a load case held constant while the others are scaled, or
-        ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.preload`
+        ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.solver.preload`
     mesh_check : ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
-        sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.adequacy`
+        sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.solver.adequacy`
     moment_terms : ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
         given as cell fields, not for moments recovered from rotations), ``True`` (both) or
-        ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.moments`
+        ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.mechanics.moments`
     warping : ``"auto"`` (default: the equivalent torsion constant over the length between
         torsional restraints, the warping DOF where that is not well defined or warping is
         restrained), ``"equivalent"`` or ``"dof"``: a warping DOF for cells with ``Iw``
-        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.warping` and
-        :mod:`framebuckle.twistlength`
+        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.solver.warping` and
+        :mod:`framebuckle.mechanics.twistlength`
     sturm_worker : run the Sturm counts of large models in a second process beside the next
-        case (:class:`framebuckle.verify.SturmWorker`; the command line does).  Off by default:
+        case (:class:`framebuckle.solver.verify.SturmWorker`; the command line does).  Off by default:
         the process is started with multiprocessing's "spawn", which imports the calling
         script again, so a script that sets it must guard its entry point with
         ``if __name__ == "__main__":``.
@@ -119,7 +120,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             K = asm.stiffness()
             cons = _ignore_unused(find_constraints(fine, K, planar), fine)
             check_supported(fine, cons, n_in, im.source)
-        else:                                   # warping DOFs (framebuckle.warping)
+        else:                                   # warping DOFs (framebuckle.solver.warping)
             asm = _warping.WarpingAssembler(fine, ref.fine_axial(im.extra["Iw"]),
                                             ref.fine_axial(im.extra["J_raw"]),
                                             np.concatenate([wrest, np.zeros(fine.n_nodes - n_in, bool)]))
@@ -289,7 +290,7 @@ def _ignore_unused(cons, fine):
 
 
 def _mesh_check_orders(im, warping_dofs=False, geo=None) -> dict:
-    """Convergence order of alpha_cr per case (see framebuckle.adequacy).
+    """Convergence order of alpha_cr per case (see framebuckle.solver.adequacy).
 
     Moment terms lower the order only where they are used in the geometric stiffness.
     """
@@ -310,7 +311,7 @@ def _moment_setting(value, st, source):
 
 class _CaseGeometric:
     """Global geometric stiffness of a load case on the fine model: axial terms, plus the
-    end-moment terms (framebuckle.moments) when the case has end moments and they are on."""
+    end-moment terms (framebuckle.mechanics.moments) when the case has end moments and they are on."""
 
     def __init__(self, asm, ref, moment_terms=True):
         self.asm, self.ref, self.on, self._local = asm, ref, moment_terms, None
@@ -323,8 +324,8 @@ class _CaseGeometric:
     def __call__(self, case):
         Kg = self.asm.geometric(self.ref.fine_axial(case.axial))
         if self.has_moments(case):
-            from .elements import local_matrices
-            from .moments import fine_moments, moment_geometric_global
+            from ..mechanics.elements import local_matrices
+            from ..mechanics.moments import fine_moments, moment_geometric_global
             fine = self.ref.frame
             if self._local is None and not hasattr(self.asm, "moment_matrix"):
                 self._local = local_matrices(fine)
@@ -350,7 +351,7 @@ def _torsion_notes(asm, fine, axial, full, lam, im) -> list:
     """Flag modes that are twist of single members (spurious for open sections without Iw)."""
     if im.extra.get("Iw") is not None:
         return []
-    from .elements import element_dofs
+    from ..mechanics.elements import element_dofs
     dofs = element_dofs(fine)
     notes = []
     Tt = asm.T

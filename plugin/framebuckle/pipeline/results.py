@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .model import DOF_NAMES
+from ..model.model import DOF_NAMES
 
 CAUTIONS = (
     "alpha_cr is an elastic indicator of sensitivity to buckling, not a member or structural resistance.",
@@ -27,7 +27,7 @@ class CaseResult:
     method: str = ""
     notes: list = field(default_factory=list)
     checks: dict = field(default_factory=dict)   # verify.check_case: residuals, Sturm count, ...
-    mesh_check: dict | None = None   # see framebuckle.adequacy
+    mesh_check: dict | None = None   # see framebuckle.solver.adequacy
     moment_terms: bool = False       # the end-moment terms were in the geometric stiffness
     warping_modes: np.ndarray | None = None   # (k, n_warping_dofs) the modes' warping DOFs, same scale
 
@@ -71,7 +71,7 @@ class Result:
         for c in self.cases:
             if c.name == name_or_index:
                 return c
-        from .errors import InputError
+        from ..errors import InputError
         raise InputError(f"no load case '{name_or_index}'; cases: {', '.join(c.name for c in self.cases)}",
                          source=self.input.source)
 

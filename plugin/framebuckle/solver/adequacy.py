@@ -33,7 +33,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 #: relative difference between the m and 2m load factors above which a warning is given
 TOLERANCE = 0.01

@@ -27,7 +27,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-from .errors import InputError, ModelError
+from ..errors import InputError, ModelError
 from .solve import PIVOT_TOL, Factor
 
 

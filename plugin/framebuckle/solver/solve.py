@@ -21,8 +21,8 @@ import scipy.sparse as sp
 import scipy.sparse.csgraph as csgraph
 import scipy.sparse.linalg as spla
 
-from .errors import ModelError, SolverError
-from .model import DOF_NAMES, Frame
+from ..errors import ModelError, SolverError
+from ..model.model import DOF_NAMES, Frame
 
 #: relative pivot below which a DOF is taken as free (mechanism)
 PIVOT_TOL = 1e-11
@@ -286,7 +286,7 @@ def _shift(factor: Factor, Kff, Gff, v0=None, block: int = 4):
 
     :math:`\sigma` is :data:`SHIFT_FRACTION` times an upper bound of :math:`\lambda_1` from a
     small block Krylov space (started from ``v0``), lowered until the factorization proves
-    :math:`K + \sigma K_g` positive definite (:func:`framebuckle.eigen.factor_shift`).  The
+    :math:`K + \sigma K_g` positive definite (:func:`framebuckle.solver.eigen.factor_shift`).  The
     eigenvalues :math:`\nu = 1/(\lambda - \sigma)` are then far better separated than
     :math:`\mu = 1/\lambda` for a cluster of load factors.
     """
@@ -313,7 +313,7 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
     r"""Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs.
 
     ``method``: ``"dense"`` (scipy.linalg.eigh), ``"arpack"`` (one vector at a time),
-    ``"block"`` (block Krylov-Schur, :mod:`framebuckle.eigen`: one solve per block of
+    ``"block"`` (block Krylov-Schur, :mod:`framebuckle.solver.eigen`: one solve per block of
     ``k + 1`` vectors, every mode of a repeated load factor found; run on
     :math:`\nu = 1/(\lambda - \sigma)` with :math:`K + \sigma K_g` factored and proved positive
     definite, see :func:`_shift`, when :data:`BLOCK_SHIFT`) or ``"auto"``

@@ -1,4 +1,4 @@
-r"""First-order (linear) static analysis of a :class:`~framebuckle.model.Frame`.
+r"""First-order (linear) static analysis of a :class:`~framebuckle.model.model.Frame`.
 
 Used to produce the axial forces of the sample meshes from real loads, and to
 recover member forces from a linear run's displacements.
@@ -46,10 +46,10 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-from .assemble import Assembler
-from .elements import element_dofs, local_axes
-from .errors import InputError, ModelError
-from .model import DOF_NAMES, Frame
+from ..mechanics.assemble import Assembler
+from ..mechanics.elements import element_dofs, local_axes
+from ..errors import InputError, ModelError
+from ..model.model import DOF_NAMES, Frame
 from .solve import Constraints, factorize, find_constraints
 
 #: standard acceleration of gravity, m/s^2 (ISO 80000-3)

@@ -8,12 +8,12 @@ the factorization of ``K``), the modes already found and a predicate ``wanted(la
 
 1. returns the lowest wanted mode among those found, if any;
 2. otherwise counts the load factors below a bound ``B`` with the inertia of
-   :math:`K + B K_g` (Sylvester's law of inertia, see :mod:`framebuckle.verify`):
+   :math:`K + B K_g` (Sylvester's law of inertia, see :mod:`framebuckle.solver.verify`):
    :math:`n_B` = number of load factors in :math:`(0, B)`;
 3. if all :math:`n_B` are among those found, none is wanted: every wanted load factor
    is :math:`\ge B` (a certified lower bound);
 4. otherwise solves again for the lowest :math:`n_B + 1` modes (at most ``max_modes``),
-   warm-started from the modes found, verifies them (:func:`framebuckle.verify.check_case`,
+   warm-started from the modes found, verifies them (:func:`framebuckle.solver.verify.check_case`,
    including its Sturm count) and classifies them: the lowest wanted one is the answer;
    if none is wanted and all :math:`n_B` were computed, ``B`` is the certified bound; if
    ``max_modes`` stopped the search below ``B``, the highest computed load factor is the

@@ -44,8 +44,8 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from .errors import SolverError
-from .model import DOF_NAMES
+from ..errors import SolverError
+from ..model.model import DOF_NAMES
 from .solve import RESIDUAL_TOL  # one tolerance for the solver and its independent check
 
 #: largest normalised K-inner product of two modes with distinct load factors
@@ -328,7 +328,7 @@ def stiffness_warnings(factor, Kff, free, n_input: int, coarse_cell=None, asm=No
         names.append(f"{where} {DOF_NAMES[comp]}")
     cells = ""
     if asm is not None and hasattr(asm, "Ke") and asm.n == asm.frame.n_dofs:
-        from .elements import element_dofs
+        from ..mechanics.elements import element_dofs
         u = np.zeros(asm.n)
         u[free] = x
         ue = u[element_dofs(asm.frame)]

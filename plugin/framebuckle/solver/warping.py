@@ -3,7 +3,7 @@ r"""Warping torsion (Vlasov): a 7th degree of freedom, the rate of twist, at the
 Switched on with ``[analysis] warping = "dof"`` (Python ``solve(..., warping="dof")``)
 for models with a cell field ``Iw``, and by the default ``"auto"`` where the
 equivalent torsion constant ``J + pi^2 E Iw / (G L^2)`` of the 6-DOF path is not
-well defined (:mod:`framebuckle.twistlength`: a member whose ``E Iw`` changes or
+well defined (:mod:`framebuckle.mechanics.twistlength`: a member whose ``E Iw`` changes or
 whose twist is released inside it) or warping is restrained somewhere;
 otherwise (and always without ``Iw``) the 6-DOF path runs unchanged.
 
@@ -27,7 +27,7 @@ the elastic and second-order energies of non-uniform torsion of a doubly
 symmetric thin-walled member (Vlasov 1961, Thin-Walled Elastic Beams; Timoshenko
 & Gere 1961, Theory of Elastic Stability, secs. 5.2-5.4 and 6.3; Trahair 1993,
 Flexural-Torsional Buckling of Structures, ch. 5-6).  The bending, axial and
-shear parts are those of :mod:`framebuckle.elements`; end releases are
+shear parts are those of :mod:`framebuckle.mechanics.elements`; end releases are
 condensed out of the 14 x 14 element matrices in the same way.
 
 Warping restraint
@@ -43,14 +43,14 @@ from __future__ import annotations
 import numpy as np
 import scipy.sparse as sp
 
-from .assemble import scatter_csr
-from .elements import (_bend, _put, beam_elastic_local, beam_geometric_local, element_dofs,
+from ..mechanics.assemble import scatter_csr
+from ..mechanics.elements import (_bend, _put, beam_elastic_local, beam_geometric_local, element_dofs,
                        element_matrices, geometric_4x4, local_axes, local_matrices, shear_parameters,
                        transformation)
-from .errors import InputError
-from .moments import _GP, _GW, hermite_d2, moment_geometric_global
+from ..errors import InputError
+from ..mechanics.moments import _GP, _GW, hermite_d2, moment_geometric_global
 from .solve import Constraints, check_supported, find_constraints
-from .twistlength import describe
+from ..mechanics.twistlength import describe
 
 #: local indices of the twist DOFs of a 14-DOF element: theta1, theta1', theta2, theta2'
 TWIST = np.array([3, 12, 9, 13])
@@ -166,12 +166,12 @@ def local14_condensed(frame, sel, Iw, Jraw):
     """Local 14 x 14 elastic and unit-force geometric matrices of the warping elements ``sel``
     after end-release condensation, the condensation matrices ``C`` (None without releases) and
     the 14 x 14 transformations: the matrices the assembly uses (and the energies of
-    :mod:`framebuckle.solvedmatrices`)."""
+    :mod:`framebuckle.engineering.solvedmatrices`)."""
     R, L = local_axes(frame)
     K14, G14 = local14(frame, sel, L[sel], Iw, Jraw)
     C = None
     if frame.release is not None and frame.release[sel].any():
-        from .releases import condensation, condense
+        from ..model.releases import condensation, condense
         rel = np.zeros((len(K14), 14), bool)
         rel[:, :12] = frame.release[sel]
         r = np.flatnonzero(rel.any(axis=1))
@@ -189,7 +189,7 @@ def moment14_condensed(L, moments, phi, C=None) -> np.ndarray:
     """:func:`moment14` condensed for end releases with the elements' ``C`` (or None)."""
     m14 = moment14(L, moments, *phi)
     if C is not None:
-        from .releases import condense
+        from ..model.releases import condense
         m14 = condense(m14, C)
     return m14
 
@@ -197,7 +197,7 @@ def moment14_condensed(L, moments, phi, C=None) -> np.ndarray:
 class WarpingAssembler:
     """Assembly of a model in which the elements with ``Iw > 0`` have 14 DOFs.
 
-    Same interface as :class:`framebuckle.assemble.Assembler` as used by the
+    Same interface as :class:`framebuckle.mechanics.assemble.Assembler` as used by the
     pipeline (``n``, ``stiffness()``, ``geometric(axial)``, ``moment_matrix(M)``).
     """
 
@@ -253,7 +253,7 @@ class WarpingAssembler:
         return self._csr(self.Ge_s * a[self.s, None, None], self.G14 * a[self.w, None, None])
 
     def moment_matrix(self, moments):
-        """Moment terms (framebuckle.moments) for fine-element end moments (e, 6)."""
+        """Moment terms (framebuckle.mechanics.moments) for fine-element end moments (e, 6)."""
         M = np.asarray(moments, float)
         if self._local is None:
             self._local = local_matrices(self.frame)
