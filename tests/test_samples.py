@@ -10,7 +10,7 @@ import pytest
 
 from framebuckle.mechanics.assemble import Assembler
 from framebuckle.mechanics.elements import element_dofs
-from framebuckle.io.read import read_mesh
+from framebuckle.io.meshfile import read_mesh
 from framebuckle.solver.static import member_forces
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -21,22 +21,21 @@ Input contract (default field names; a study file may rename them):
 
 from __future__ import annotations
 
-import contextlib
 import copy
-import io
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import meshio
 import numpy as np
 
 from ..errors import InputError
-from ..model.model import Frame, LoadCase, first_bad_flag_row, make_case, make_frame
+from ..model.model import Frame, first_bad_flag_row, make_frame
 from ..model.releases import read_releases
 from .study import SUPPORT_KINDS, Study
 from ..mechanics.twistlength import EQUIVALENT_NOTE, twist_lengths
+from .cases import _cases
+from .fields import _cell_field, _line_blocks
+from .meshfile import read_mesh
 
-LINE_TYPES = ("line", "line3")
 SECTION_KEYS = ("E", "G", "A", "Iy", "Iz", "J")
 
 
@@ -56,139 +55,7 @@ class InputModel:
     extra: dict = field(default_factory=dict)   # per-element arrays: Iw, fy, member, ...
 
 
-# ---------------------------------------------------------------- files
-
-
-def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
-    """Read a mesh file; return the mesh and, for XDMF time series, the steps.
-
-    Each step is ``(time, point_data, cell_data)``.
-    """
-    p = Path(path)
-    src = str(p)
-    if not p.exists():
-        raise InputError("file not found", source=src)
-    if not p.is_file():
-        raise InputError("not a file", source=src)
-    steps = []
-    said = io.StringIO()
-    try:
-        # meshio prints its reader's complaint and calls sys.exit(1) on some corrupt files
-        with contextlib.redirect_stdout(said), contextlib.redirect_stderr(said):
-            if p.suffix.lower() in (".xdmf", ".xmf"):
-                mesh, steps = _read_xdmf(p)
-            elif p.suffix.lower() == ".msh":
-                mesh = _read_msh(p)
-            else:
-                mesh = meshio.read(p)
-    except InputError:
-        raise
-    except SystemExit:
-        lines = [ln.strip() for ln in said.getvalue().splitlines() if ln.strip()]
-        raise InputError(f"cannot read the mesh ({'; '.join(lines[:2]) or 'unreadable'}); the file "
-                         f"may be truncated, corrupt or of an unsupported format", source=src) from None
-    except Exception as exc:  # meshio raises many kinds for corrupt files
-        kind = type(exc).__name__
-        msg = str(exc).strip().splitlines()[0] if str(exc).strip() else kind
-        raise InputError(f"cannot read the mesh ({kind}: {msg}); the file may be truncated, "
-                         f"corrupt or of an unsupported format", source=src) from None
-    return mesh, steps
-
-
-def _read_msh(p: Path) -> meshio.Mesh:
-    """Gmsh MSH through meshio, with point fields put in the order of the points.
-
-    meshio (5.3) stores the points of an MSH 4.1 file in the order of the file's node
-    blocks (one per geometric entity) but its ``$NodeData`` fields in node-tag order; when
-    the two differ every point field would belong to another point.  The node tags are
-    captured while meshio reads the file and the point fields are permuted to match.
-    """
-    import meshio.gmsh._gmsh41 as g41
-
-    captured = []
-    original = g41._read_nodes
-
-    def _read_nodes(*args, **kwargs):
-        points, tags, dim_tags = original(*args, **kwargs)
-        captured.append(np.asarray(tags).copy())
-        return points, tags, dim_tags
-
-    g41._read_nodes = _read_nodes
-    try:
-        mesh = meshio.read(p)
-    finally:
-        g41._read_nodes = original
-    if not captured:
-        return mesh                       # MSH 2.2 stores node data by position
-    tags = captured[-1]                   # 0-based node tag of each point, file order
-    n = len(mesh.points)
-    if np.array_equal(tags, np.arange(n)):
-        return mesh
-    if tags.min() < 0 or tags.max() >= n or len(np.unique(tags)) != n:
-        fields = [k for k in mesh.point_data if not k.startswith("gmsh:")]
-        if fields:
-            raise InputError(f"node tags are not 1..{n}, so point fields {', '.join(fields)} cannot "
-                             f"be matched to points", source=str(p))
-        return mesh
-    for k in list(mesh.point_data):
-        if not k.startswith("gmsh:"):
-            mesh.point_data[k] = np.asarray(mesh.point_data[k])[tags]
-    return mesh
-
-
-def _read_xdmf(p: Path):
-    """XDMF: a plain mesh, or a time series whose steps become load cases."""
-    try:
-        with meshio.xdmf.TimeSeriesReader(p) as reader:
-            points, cells = reader.read_points_cells()
-            steps = []
-            for k in range(reader.num_steps):
-                t, pd, cd = reader.read_data(k)
-                steps.append((t, pd, cd))
-        if steps:
-            pd0 = steps[0][1]
-            mesh = meshio.Mesh(points, cells, point_data=dict(pd0),
-                               cell_data={k: v for k, v in steps[0][2].items()})
-            return mesh, steps
-    except Exception:
-        pass
-    return meshio.read(p), []
-
-
 # ---------------------------------------------------------------- fields
-
-
-def _line_blocks(mesh):
-    """Indices of line blocks and the global cell offset of every block."""
-    offsets = np.cumsum([0] + [len(b.data) for b in mesh.cells])
-    blocks = [i for i, b in enumerate(mesh.cells) if b.type in LINE_TYPES]
-    return blocks, offsets
-
-
-def _cell_field(mesh, name, blocks, src, ncomp=None):
-    """Values of a cell field on the line cells (concatenated), or None if absent."""
-    if name not in mesh.cell_data:
-        return None
-    arrs = []
-    for b in blocks:
-        try:
-            a = np.asarray(mesh.cell_data[name][b])
-        except IndexError:
-            raise InputError(f"cell field '{name}' has no values for cell block {b}", source=src) from None
-        if a.shape[0] != len(mesh.cells[b].data):
-            raise InputError(f"cell field '{name}' has {a.shape[0]} values for {len(mesh.cells[b].data)} "
-                             f"cells of block {b}", source=src)
-        arrs.append(a)
-    a = np.concatenate(arrs)
-    if ncomp is None and a.ndim == 2 and a.shape[1] == 1:
-        a = a[:, 0]
-    if ncomp is None and a.ndim != 1:
-        raise InputError(f"cell field '{name}' must have one component, got shape {a.shape}", source=src)
-    if ncomp is not None and (a.ndim != 2 or a.shape[1] != ncomp):
-        raise InputError(f"cell field '{name}' must have {ncomp} components, got shape {a.shape}", source=src)
-    if not np.issubdtype(a.dtype, np.number):
-        raise InputError(f"cell field '{name}' is not numeric", source=src)
-    return a.astype(float)
 
 
 def point_sets(mesh) -> dict:
@@ -391,100 +258,6 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
 def _shear_area(a):
     """Shear area per element; cells without a value are rigid in shear (inf)."""
     return None if a is None else np.where(np.isnan(a), np.inf, a)
-
-
-def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
-    base = study.field_name("axial_force")
-    cases = []
-    if steps:
-        for t, pd, cd in steps:
-            sub = meshio.Mesh(mesh.points, mesh.cells, cell_data=cd)
-            for name in _case_fields(sub, base):
-                a = np.repeat(_cell_field(sub, name, blocks, src), expand)
-                label = f"t={t:g}" if name == base else f"t={t:g}/{name[len(base) + 1:]}"
-                cases.append(make_case(label, a, frame, src))
-    else:
-        for name in _case_fields(mesh, base):
-            a = np.repeat(_cell_field(mesh, name, blocks, src), expand)
-            label = "default" if name == base else name[len(base) + 1:]
-            cases.append(make_case(label, a, frame, src))
-    cases = _recovered_cases(mesh, study, frame, src, steps, cases)
-    if not steps:
-        cases = _moment_cases(mesh, study, blocks, expand, frame, src, cases)
-    if not cases:
-        raise InputError(f"no axial force field: expected a cell field '{base}' or '{base}.<case>' "
-                         f"(or point fields '{study.field_name('displacement')}'[.<case>]); "
-                         f"cell fields in the file: {', '.join(sorted(mesh.cell_data)) or 'none'}",
-                         source=src)
-    wanted = study.get("analysis", "cases")
-    if wanted:
-        names = [c.name for c in cases]
-        for w in wanted:
-            if w not in names:
-                raise InputError(f"[analysis] cases lists '{w}', which is not a load case of the input; "
-                                 f"cases: {', '.join(names)}", source=study.source)
-        cases = [c for c in cases if c.name in wanted]
-    return cases
-
-
-def _recovered_cases(mesh, study, frame, src, steps, cases) -> list[LoadCase]:
-    """Cases from point displacements (and rotations), see :mod:`framebuckle.io.recover`."""
-    from .recover import disagreement, displacement_fields, recover_case
-    by_name = {c.name: i for i, c in enumerate(cases)}
-    out = list(cases)
-    sources = [(f"t={t:g}", pd) for t, pd, _ in steps] if steps else [(None, mesh.point_data)]
-    for prefix, pd in sources:
-        for suffix, (dname, rname) in displacement_fields(pd, study).items():
-            if prefix is None:
-                label = suffix or "default"
-            else:
-                label = prefix + (f"/{suffix}" if suffix else "")
-            axial, moments = recover_case(frame, pd, dname, rname, src)
-            extra = {"moments": moments, "moments_from": "displacements"} if moments is not None else {}
-            if label in by_name:
-                c = out[by_name[label]]
-                rel, i = disagreement(c.axial, axial)
-                extra["notes"] = [(f"axial forces recovered from '{dname}' agree with the given axial "
-                                   f"forces (largest difference {100 * rel:.1g} % of the largest |N|)"
-                                   if rel < 1e-6 else
-                                   f"axial forces recovered from '{dname}' differ from the given axial force "
-                                   f"by up to {100 * rel:.3g} % of the largest |N| (cell {frame.parent[i]}); "
-                                   f"the given axial forces are used")
-                                  + ("; check that the displacement fields belong to this mesh and its "
-                                     "point order" if rel > 0.01 else "")]
-                out[by_name[label]] = LoadCase(c.name, c.axial, {**c.extra, **extra})
-            else:
-                c = make_case(label, axial, frame, src)
-                extra["notes"] = [f"axial forces recovered from the point field '{dname}'"
-                                  + (f" and end moments from '{rname}'" if rname else "")]
-                out.append(LoadCase(c.name, c.axial, extra))
-                by_name[label] = len(out) - 1
-    return out
-
-
-def _moment_cases(mesh, study, blocks, expand, frame, src, cases) -> list[LoadCase]:
-    """Attach cell fields ``moment_start``/``moment_end`` (see :mod:`framebuckle.mechanics.moments`) to cases."""
-    from ..mechanics.moments import read_moment_fields
-    fields = read_moment_fields(list(mesh.cell_data),
-                                lambda n: np.repeat(_cell_field(mesh, n, blocks, src, 3), expand, axis=0),
-                                study, frame.parent, src)
-    out = list(cases)
-    names = [c.name for c in out]
-    for suffix, M in fields.items():
-        label = suffix or "default"
-        extra = {"moments": M, "moments_from": "cell fields"}
-        if label in names:
-            i = names.index(label)
-            out[i] = LoadCase(out[i].name, out[i].axial, {**out[i].extra, **extra})
-        else:
-            c = make_case(label, 0.0, frame, src)
-            out.append(LoadCase(c.name, c.axial, {**extra, "notes": ["end moments only (no axial force)"]}))
-            names.append(label)
-    return out
-
-
-def _case_fields(mesh, base):
-    return [k for k in mesh.cell_data if k == base or k.startswith(base + ".")]
 
 
 def _apply_supports(restraint, study: Study, sets: dict, points, src):
