@@ -139,7 +139,8 @@ SAMPLES = Path(__file__).resolve().parents[1] / "sample_meshes"
 def test_check_on_samples(name, study, tmp_path):
     import framebuckle as fb
     from framebuckle.pipeline.api import _as_study
-    from framebuckle.engineering.check import run_check, write_check
+    from framebuckle.engineering.check import run_check
+    from framebuckle.engineering.checkfiles import write_check
     st = _as_study(None if study is None else SAMPLES / study)
     res = fb.solve(SAMPLES / name, st, modes=2)
     rep = run_check(res, st)

@@ -7,7 +7,8 @@ import pytest
 import scipy.linalg as sla
 
 import framebuckle as fb
-from framebuckle.engineering.check import _verdict_short, members_csv, run_check
+from framebuckle.engineering.check import _verdict_short, run_check
+from framebuckle.engineering.checkfiles import members_csv
 from framebuckle.engineering.globalmode import MEMBER_TEXT
 from framebuckle.engineering.participation import chord_work, element_energies, participation
 from framebuckle.solver.static import solve_static

@@ -264,7 +264,8 @@ def cmd_check(args) -> int:
     import json
 
     from .pipeline.api import _as_study, solve
-    from .engineering.check import format_table, run_check, write_check
+    from .engineering.check import run_check
+    from .engineering.checkfiles import format_table, write_check
     from .io.write import _jsonable
     study = _as_study(args.study)
     result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)

@@ -1,6 +1,6 @@
 """The engineering check of a solved model: members, effective lengths, participation,
 stiffening advice, code verdicts and the imperfection; pure data, files are written by
-:func:`write_check`.
+:func:`checkfiles.write_check`.
 
 Data flow: ``Result`` -> :func:`members.group_members` -> per case and mode
 :func:`participation.case_energies` -> effective lengths, participation,
@@ -9,11 +9,8 @@ sensitivity -> verdicts -> :class:`CheckReport` (summary dict, CSV rows, cell fi
 
 from __future__ import annotations
 
-import csv
-import io
 import math
 from dataclasses import dataclass, field
-from pathlib import Path
 
 import numpy as np
 
@@ -23,12 +20,13 @@ from .globalmode import MEMBER_TEXT, lowest_sway, sway_text
 from .globalmode import verdicts as verdicts_of
 from .effective import (MEMBER_SHARE, NEGLIGIBLE, design_lengths, design_summary, effective_lengths,
                         member_forces)
-from ..errors import InputError, OutputError
-from .imperfection import imperfect_grid, scale_for
+from ..errors import InputError
+from .imperfection import scale_for
 from ..mechanics.members import Members, group_members
 from .participation import (ENERGY_CUT, SWAY_LIMIT, TWIST_LIMIT, case_energies, chord_work,
                             participation)
 from ..pipeline.results import CAUTIONS
+from .checksettings import _fy, _num, _settings, _storeys, _validate_settings
 from .sensitivity import bending_sensitivity, ranking, repeated
 from ..io.study import Study
 from ..solver.upward import MAX_MODES
@@ -72,76 +70,6 @@ class CheckReport:
     @property
     def exit_code(self) -> int:
         return 0 if self.passed else 1
-
-
-def _settings(study: Study) -> dict:
-    return dict(study.get("checks", default={}) or {})
-
-
-def _storeys(study: Study) -> list:
-    out = []
-    for i, s in enumerate(study.get("storeys", default=[]) or []):
-        where = f"[[storeys]] entry {i + 1}"
-        if "P_story" not in s and "level" not in s:
-            raise InputError(f"{where}: give P_story (AISC 360-16 Appendix 8) or level (the floor "
-                             f"elevation, for the storey-drift estimate)", source=study.source)
-        if "level" in s and not math.isfinite(s["level"]):
-            raise InputError(f"{where}: level must be a finite number, got {s['level']}", source=study.source)
-        if "P_story" not in s:
-            s = dict(s)
-            s.setdefault("name", str(i + 1))
-            out.append(s)
-            continue
-        if "P_e_story" not in s and not all(k in s for k in ("H", "height", "drift")):
-            raise InputError(f"{where}: give P_e_story, or H, height and drift (AISC 360-16 Eq. A-8-7)",
-                             source=study.source)
-        for k in ("P_story", "P_e_story", "H", "height", "drift"):
-            if k in s and not float(s[k]) > 0:
-                raise InputError(f"{where}: {k} must be positive, got {s[k]}", source=study.source)
-        s = dict(s)
-        s.setdefault("name", str(i + 1))
-        out.append(s)
-    return out
-
-
-def _fy(result, settings) -> np.ndarray | None:
-    fy = result.input.extra.get("fy")
-    default = settings.get("fy")
-    if fy is None:
-        return None if default is None else np.full(result.model.n_elements, float(default))
-    fy = np.asarray(fy, float)
-    if default is not None:
-        fy = np.where(np.isfinite(fy), fy, float(default))
-    return fy
-
-
-def _num(x):
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
-
-
-def _validate_settings(st: dict, source: str):
-    for code in st.get("codes", []):
-        if code not in ("EN1993", "AISC360"):
-            raise InputError(f"[checks] codes: unknown code '{code}' (EN1993, AISC360)", source=source)
-    if st.get("analysis", "elastic") not in ("elastic", "plastic"):
-        raise InputError(f"[checks] analysis must be \"elastic\" or \"plastic\", got {st['analysis']!r}",
-                         source=source)
-    for key in ("min_alpha", "en1993_elastic_limit", "en1993_plastic_limit", "en1993_amplify_limit",
-                "aisc_alpha", "aisc_max_B2", "fy"):
-        if key in st and not (math.isfinite(st[key]) and st[key] > 0):
-            raise InputError(f"[checks] {key} must be a positive number, got {st[key]}", source=source)
-    if "sway_search_modes" in st and not (isinstance(st["sway_search_modes"], int) and st["sway_search_modes"] >= 1):
-        raise InputError(f"[checks] sway_search_modes must be a whole number >= 1, got {st['sway_search_modes']}",
-                         source=source)
-    if "member_min_alpha" in st and not (math.isfinite(st["member_min_alpha"]) and st["member_min_alpha"] >= 0):
-        raise InputError(f"[checks] member_min_alpha must be a number >= 0, got {st['member_min_alpha']}",
-                         source=source)
-    for key in ("twist_limit", "sway_limit", "energy_cut", "negligible_compression", "member_share"):
-        if key in st and not 0 < st[key] <= 1:
-            raise InputError(f"[checks] {key} must be in (0, 1], got {st[key]}", source=source)
 
 
 def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
@@ -411,59 +339,3 @@ def _verdict_short(verdicts) -> str:
     return "; ".join(p for p in parts if p)
 
 
-def members_csv(rows) -> str:
-    buf = io.StringIO()
-    w = csv.DictWriter(buf, fieldnames=CSV_COLUMNS, lineterminator="\n")
-    w.writeheader()
-    for r in rows:
-        w.writerow({k: ("" if v is None else (f"{v:.10g}" if isinstance(v, float) else v)) for k, v in r.items()})
-    return buf.getvalue()
-
-
-def format_table(report: CheckReport) -> str:
-    head = ("case", "alpha_cr", "mode", "alpha_cr,sway", "storey-drift", "verdicts", "governing members",
-            "stiffen", "result")
-    rows = [(n, "-" if a is None else f"{a:.4g}", t, sw, dr, v, g, s, "pass" if ok else "FAIL")
-            for n, a, t, v, g, s, ok, sw, dr in report.table]
-    w = [max(len(h), *(len(r[i]) for r in rows)) if rows else len(h) for i, h in enumerate(head)]
-    line = lambda r: "  ".join(f"{x:<{w[i]}}" for i, x in enumerate(r)).rstrip()
-    return "\n".join([line(head), "-" * (sum(w) + 2 * (len(w) - 1))] + [line(r) for r in rows])
-
-
-def write_check(result, report: CheckReport, out_dir, force: bool = False) -> dict:
-    """Write modes (with member cell fields), fine modes, summary, members CSV, imperfect mesh."""
-    from ..io.write import (fine_grid, input_grid, output_stem, prepare_dir, write_grid, write_json,
-                        write_text)
-    out = prepare_dir(Path(out_dir))
-    stem = output_stem(result.input.source)
-    src = result.input.source
-    protect = [src] if src and not src.startswith("<") else []
-    paths = {"modes": out / f"{stem}.modes.vtu", "modes_fine": out / f"{stem}.modes_fine.vtu",
-             "summary": out / f"{stem}.summary.json", "members": out / f"{stem}.members.csv"}
-    if report.imperfection_mode is not None:
-        paths["imperfect"] = out / f"{stem}.imperfect.vtu"
-    if not force:
-        for p in paths.values():
-            if p.exists():
-                raise OutputError("output exists; use --force to replace it", source=str(p))
-    grid = input_grid(result)
-    if grid.n_cells != result.input.n_cells:
-        raise OutputError(f"the output mesh has {grid.n_cells} cells, the input {result.input.n_cells}",
-                          source=str(paths["modes"]))
-    for name, a in report.cell_fields.items():
-        grid.cell_data[name] = a
-    summary = report.summary
-    if report.imperfection_mode is not None:
-        ci, mi, s = report.imperfection_mode
-        igrid, note, moved = imperfect_grid(result, ci, mi, s)
-        report.imperfection["largest_translation_at_input_points"] = moved
-        if note:
-            report.imperfection["note"] = note
-    write_grid(grid, paths["modes"], True, protect)
-    write_grid(fine_grid(result), paths["modes_fine"], True, protect)
-    write_text(paths["members"], members_csv(report.rows), True, protect)
-    if report.imperfection_mode is not None:
-        write_grid(igrid, paths["imperfect"], True, protect)
-    summary["outputs"] = {k: str(v) for k, v in paths.items()}
-    write_json(paths["summary"], summary, True, protect)
-    return paths
