@@ -18,9 +18,9 @@ import numpy as np  # noqa: E402
 import scipy.sparse as sp  # noqa: E402
 import scipy.sparse.linalg as spla  # noqa: E402
 
-from framebuckle.assemble import Assembler  # noqa: E402
-from framebuckle.model import make_frame  # noqa: E402
-from framebuckle.refine import subdivide  # noqa: E402
+from framebuckle.mechanics.assemble import Assembler  # noqa: E402
+from framebuckle.model.model import make_frame  # noqa: E402
+from framebuckle.model.refine import subdivide  # noqa: E402
 
 
 def main(path, solver="splu"):

@@ -1,4 +1,4 @@
-"""Cost of the result checks (framebuckle.verify) against the whole run, by hand:
+"""Cost of the result checks (framebuckle.solver.verify) against the whole run, by hand:
 
     python benchmarks/verify_overhead.py [n_bays]
 
@@ -14,7 +14,7 @@ import meshio
 import numpy as np
 
 import framebuckle as fb
-from framebuckle import verify
+from framebuckle.solver import verify
 
 
 def building(nb: int) -> meshio.Mesh:

@@ -27,7 +27,7 @@ combination factor 0.6 for wind accompanying snow):
 Section properties are computed from nominal dimensions (root and corner radii
 neglected; thin-walled torsion constants), so they are reproducible here.  The
 member axial forces ``axial_force.<case>`` are the mid-length axial forces of the
-static solution (:mod:`framebuckle.static`), together with the point fields
+static solution (:mod:`framebuckle.solver.static`), together with the point fields
 ``displacement.<case>`` and ``rotation.<case>`` of that solution.  The generator is
 deterministic.
 """
@@ -49,8 +49,8 @@ sys.path.insert(0, str(HERE.parent / "plugin"))
 
 import meshio  # noqa: E402
 
-from framebuckle.model import Frame, make_frame  # noqa: E402
-from framebuckle.static import self_weight, solve_static  # noqa: E402
+from framebuckle.model.model import Frame, make_frame  # noqa: E402
+from framebuckle.solver.static import self_weight, solve_static  # noqa: E402
 
 GAMMA_G, GAMMA_Q, PSI0_WIND = 1.35, 1.5, 0.6
 

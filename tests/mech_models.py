@@ -50,8 +50,8 @@ def _per_cell(v, ncell):
 def static_solve(frame, loads):
     """First-order displacements (n, 6) of ``frame`` under nodal loads (n, 6) (test helper)."""
     import scipy.sparse.linalg as spla
-    from framebuckle.assemble import Assembler
-    from framebuckle.solve import find_constraints
+    from framebuckle.mechanics.assemble import Assembler
+    from framebuckle.solver.solve import find_constraints
     K = Assembler.build(frame).stiffness()
     cons = find_constraints(frame, K, False)
     u = np.zeros(frame.n_dofs)

@@ -1,7 +1,7 @@
 """Small models for the published-reference tests (not a test module itself).
 
 Every builder returns a ``meshio.Mesh`` that follows the input contract of
-:mod:`framebuckle.read` (one ``line`` cell per member, cell fields for the
+:mod:`framebuckle.io.read` (one ``line`` cell per member, cell fields for the
 section and the axial force, point field ``restraint``), so the checks run
 through the same path a user's file does: ``framebuckle.solve(mesh)``.
 """

@@ -19,7 +19,7 @@ sys.path[:0] = [str(HERE.parent / "plugin"), str(HERE)]
 import numpy as np  # noqa: E402
 
 import framebuckle as fb  # noqa: E402
-from framebuckle.api import DEFAULT_SUBDIVIDE  # noqa: E402
+from framebuckle.pipeline.api import DEFAULT_SUBDIVIDE  # noqa: E402
 
 import test_elements as te  # noqa: E402
 import test_euler as tu  # noqa: E402

@@ -12,7 +12,7 @@ import pytest
 import pyvista as pv
 
 import framebuckle as fb
-import framebuckle.accessor  # noqa: F401  (registers grid.buckle explicitly)
+import framebuckle.pictures.accessor  # noqa: F401  (registers grid.buckle explicitly)
 
 import picture_models as pm
 
@@ -60,20 +60,20 @@ def test_bad_grid_is_named():
 
 def test_entry_point_loads_the_accessor_lazily(tmp_path):
     # pyproject declares the entry point; a distribution with that declaration on the path
-    # makes PyVista import framebuckle.accessor on first use of grid.buckle, not before
+    # makes PyVista import framebuckle.pictures.accessor on first use of grid.buckle, not before
     eps = tomllib.loads((ROOT / "pyproject.toml").read_text())["project"]["entry-points"]["pyvista.accessors"]
-    assert eps == {"buckle": "framebuckle.accessor"}
+    assert eps == {"buckle": "framebuckle.pictures.accessor"}
     dist = tmp_path / "framebuckle_probe-0.0.dist-info"
     dist.mkdir()
     (dist / "METADATA").write_text("Metadata-Version: 2.1\nName: framebuckle-probe\nVersion: 0.0\n")
-    (dist / "entry_points.txt").write_text("[pyvista.accessors]\nbuckle = framebuckle.accessor\n")
+    (dist / "entry_points.txt").write_text("[pyvista.accessors]\nbuckle = framebuckle.pictures.accessor\n")
     code = ("import sys, pyvista as pv, meshio, numpy as np\n"
             "sys.path.insert(0, %r)\n"
             "import picture_models as pm\n"
             "g = pv.from_meshio(pm.pinned_column())\n"
-            "assert 'framebuckle.accessor' not in sys.modules\n"
+            "assert 'framebuckle.pictures.accessor' not in sys.modules\n"
             "print(float(g.buckle.load_factors['default'][0]))\n"
-            "assert 'framebuckle.accessor' in sys.modules\n") % str(ROOT / "tests")
+            "assert 'framebuckle.pictures.accessor' in sys.modules\n") % str(ROOT / "tests")
     env = dict(os.environ)
     env["PYTHONPATH"] = os.pathsep.join([str(tmp_path), env["PYTHONPATH"]])
     r = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, timeout=120)

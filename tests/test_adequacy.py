@@ -1,4 +1,4 @@
-"""Mesh adequacy: twice the sub-division and Richardson extrapolation (framebuckle.adequacy).
+"""Mesh adequacy: twice the sub-division and Richardson extrapolation (framebuckle.solver.adequacy).
 
 Reference: Timoshenko & Gere 1961 (Euler load); Strang & Fix 1973, An Analysis of the Finite Element Method (convergence order).
 """
@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle.adequacy import ORDER_FLEXURE, richardson
+from framebuckle.solver.adequacy import ORDER_FLEXURE, richardson
 from mech_models import E, column_mesh
 
 L, I, P = 4.0, 6e-6, -1000.0
@@ -59,7 +59,7 @@ def test_mesh_check_switch():
 def test_unused_recovered_moments_keep_the_flexural_order():
     """Moments recovered from rotations but not used (moment_terms = "auto") must not lower the
     Richardson order: the Euler-Bernoulli element converges as h^4 (common practice, see
-    framebuckle.adequacy)."""
+    framebuckle.solver.adequacy)."""
     from pathlib import Path
     sample = Path(__file__).resolve().parents[1] / "sample_meshes" / "workshop_portal.vtu"
     res = fb.solve(sample, modes=1)

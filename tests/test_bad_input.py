@@ -382,7 +382,7 @@ def output_name_too_long(t):
     return [m], ["modes.vtu", "file name is"], [m]
 
 
-# --- plausibility rules (framebuckle.plausible) and the typed study schema
+# --- plausibility rules (framebuckle.model.plausible) and the typed study schema
 
 def torsion_constant_in_cm4(t):
     # J in cm^4 beside m: J > Iy + Iz is impossible (Saint-Venant's inequality J <= Ip)

@@ -13,11 +13,11 @@ import pytest
 import scipy.linalg as sla
 
 import framebuckle as fb
-from framebuckle.assemble import Assembler
-from framebuckle.eigen import block_krylov_schur
-from framebuckle.model import make_frame
-from framebuckle.refine import subdivide
-from framebuckle.solve import buckling_modes, factorize, find_constraints
+from framebuckle.mechanics.assemble import Assembler
+from framebuckle.solver.eigen import block_krylov_schur
+from framebuckle.model.model import make_frame
+from framebuckle.model.refine import subdivide
+from framebuckle.solver.solve import buckling_modes, factorize, find_constraints
 
 E, G = 210e9, 81e9
 

@@ -7,11 +7,11 @@ import pytest
 from scipy.optimize import brentq
 
 import framebuckle as fb
-from framebuckle.check import run_check
-from framebuckle.codecheck import aisc_b2, en1993_amplifier, en1993_first_order
-from framebuckle.members import group_members
-from framebuckle.read import read_input
-from framebuckle.study import study_from_dict
+from framebuckle.engineering.check import run_check
+from framebuckle.engineering.codecheck import aisc_b2, en1993_amplifier, en1993_first_order
+from framebuckle.mechanics.members import group_members
+from framebuckle.io.read import read_input
+from framebuckle.io.study import study_from_dict
 
 import frames as F
 

@@ -138,8 +138,9 @@ SAMPLES = Path(__file__).resolve().parents[1] / "sample_meshes"
     ("footbridge.msh", "footbridge.study.toml")])
 def test_check_on_samples(name, study, tmp_path):
     import framebuckle as fb
-    from framebuckle.api import _as_study
-    from framebuckle.check import run_check, write_check
+    from framebuckle.pipeline.api import _as_study
+    from framebuckle.engineering.check import run_check
+    from framebuckle.engineering.checkfiles import write_check
     st = _as_study(None if study is None else SAMPLES / study)
     res = fb.solve(SAMPLES / name, st, modes=2)
     rep = run_check(res, st)

@@ -8,9 +8,9 @@ import pytest
 from scipy.optimize import brentq
 
 import framebuckle as fb
-from framebuckle.check import run_check
-from framebuckle.effective import relative_shares
-from framebuckle.study import study_from_dict
+from framebuckle.engineering.check import run_check
+from framebuckle.engineering.effective import relative_shares
+from framebuckle.io.study import study_from_dict
 
 import frames as F
 
@@ -198,7 +198,7 @@ def test_repeated_load_factor_shares_do_not_depend_on_the_basis():
 def test_report_ranks_members_by_critical_factor():
     # leaning column bowing first (mode 1), cantilever in the sway mode 2: the report lists the
     # leaning column first although the cantilever has the larger L_cr / L
-    from framebuckle import report
+    from framebuckle.pictures import report
     res = fb.solve(leaning_portal(I2=8e-7, P2=5000.0), subdivide=8, modes=2, planar=True)
     chk = run_check(res)
     d = design(chk)

@@ -19,8 +19,8 @@ import numpy as np
 import pytest
 import sympy as sp
 
-from framebuckle import elements as el
-from framebuckle.model import make_frame
+from framebuckle.mechanics import elements as el
+from framebuckle.model.model import make_frame
 
 LENGTHS = np.array([0.7, 2.5, 6.0])
 
@@ -252,7 +252,7 @@ def test_sparse_assembly_equals_direct_scatter_and_repeats():
     (the direct stiffness method, common practice), on members along the global axes
     (whose 6 x 6 blocks hold exact zeros) and skew ones; no stored zeros, and repeated
     calls (the pattern is reused for every load case) give the same matrices."""
-    from framebuckle.assemble import Assembler
+    from framebuckle.mechanics.assemble import Assembler
     nodes = np.array([[0.0, 0, 0], [0, 0, 3.0], [4.0, 0, 3.0], [4.0, 0, 0], [1.3, 2.1, 0.7]])
     elements = np.array([[0, 1], [1, 2], [2, 3], [1, 4], [4, 2]])
     fr = make_frame(nodes, elements, 2.1e11, 8.1e10, 5e-3, 3e-6, 9e-6, 2e-7)

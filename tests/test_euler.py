@@ -20,7 +20,7 @@ import pytest
 from scipy.optimize import brentq
 
 import framebuckle as fb
-from framebuckle.api import DEFAULT_SUBDIVIDE
+from framebuckle.pipeline.api import DEFAULT_SUBDIVIDE
 
 from refmodels import E, G, A, I, column, column_restraint, euler_load, line_mesh, rel
 

@@ -18,11 +18,11 @@ import scipy.linalg as sla
 from scipy.spatial.transform import Rotation
 
 import framebuckle as fb
-from framebuckle.api import DEFAULT_SUBDIVIDE
-from framebuckle.assemble import Assembler
-from framebuckle.read import read_input
-from framebuckle.refine import subdivide
-from framebuckle.solve import find_constraints
+from framebuckle.pipeline.api import DEFAULT_SUBDIVIDE
+from framebuckle.mechanics.assemble import Assembler
+from framebuckle.io.read import read_input
+from framebuckle.model.refine import subdivide
+from framebuckle.solver.solve import find_constraints
 
 from refmodels import FIXED, FREE, line_mesh, frame3d
 

@@ -1,4 +1,4 @@
-"""Moment terms of the geometric stiffness: lateral-torsional buckling (framebuckle.moments)."""
+"""Moment terms of the geometric stiffness: lateral-torsional buckling (framebuckle.mechanics.moments)."""
 
 import math
 
@@ -8,7 +8,7 @@ import pytest
 import scipy.linalg as sla
 
 import framebuckle as fb
-from framebuckle.model import make_frame
+from framebuckle.model.model import make_frame
 from mech_models import E, G, static_solve
 
 # an invented narrow rectangular section 20 x 200 mm, strong axis = local y (depth along local z)

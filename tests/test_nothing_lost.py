@@ -3,7 +3,7 @@ existing outputs are kept without --force, and a run killed while writing
 leaves every output either old and intact or new and complete.
 
 The process is stopped at a known point through the documented test hook
-``framebuckle.write.PAUSE_ENV`` (the run waits between writing a temporary
+``framebuckle.io.write.PAUSE_ENV`` (the run waits between writing a temporary
 file and renaming it into place); the kill itself is a real SIGKILL / SIGTERM
 of the real CLI process.  Atomic replacement by rename within one folder is
 POSIX ``rename(2)`` semantics (common practice).

@@ -32,9 +32,10 @@ import pytest
 import pyvista as pv
 
 import framebuckle as fb
-from framebuckle import outputs, render, shapes
+from framebuckle.io import outputs
+from framebuckle.pictures import render, shapes
 from framebuckle.errors import InputError, OutputError
-from framebuckle.write import case_names, write_result
+from framebuckle.io.write import case_names, write_result
 
 import picture_models as pm
 from faultkit import mesh_from, portal_arrays, run_cli, sha

@@ -1,4 +1,4 @@
-"""Plausibility rules of framebuckle.plausible: impossible inputs are refused, suspicious ones warned,
+"""Plausibility rules of framebuckle.model.plausible: impossible inputs are refused, suspicious ones warned,
 and inputs that only look odd (export noise, long orientation vectors, close time steps) give the
 same answer as their clean form.  Models are the invented portal of faultkit.py (N and m).
 """
@@ -10,11 +10,11 @@ import pytest
 
 import framebuckle as fb
 from faultkit import A, E, IY, IZ, J, mesh_from, portal, portal_arrays
-from framebuckle.check import run_check
+from framebuckle.engineering.check import run_check
 from framebuckle.errors import InputError, ModelError
-from framebuckle.plausible import IW_ERROR, IW_WARN, RM_RANGE, warping_ratio
-from framebuckle.read import time_labels
-from framebuckle.study import study_from_dict
+from framebuckle.model.plausible import IW_ERROR, IW_WARN, RM_RANGE, warping_ratio
+from framebuckle.io.cases import time_labels
+from framebuckle.io.study import study_from_dict
 
 
 def _i_section(b, h, tf, tw):

@@ -1,4 +1,4 @@
-"""Constant preload: (K + Kg(N_const) + lambda Kg(N_var)) phi = 0 (framebuckle.preload).
+"""Constant preload: (K + Kg(N_const) + lambda Kg(N_var)) phi = 0 (framebuckle.solver.preload).
 
 Reference: Timoshenko & Gere 1961 (Euler load); the preload expectation is derived in the test (common practice).
 """

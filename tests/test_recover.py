@@ -1,4 +1,4 @@
-"""Member forces recovered from point displacements and rotations (framebuckle.recover).
+"""Member forces recovered from point displacements and rotations (framebuckle.io.recover).
 
 Checked on first-order solutions of small invented models (against statics) and
 on the sample meshes' exported first-order solutions (sample_meshes/).
@@ -11,8 +11,8 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle.model import make_frame
-from framebuckle.recover import axial_from_elongation, element_end_forces, end_moments
+from framebuckle.model.model import make_frame
+from framebuckle.io.recover import axial_from_elongation, element_end_forces, end_moments
 from mech_models import E, G, column_mesh, static_solve
 
 L, A, I, J = 3.0, 4e-3, 6e-6, 1e-6
@@ -98,11 +98,11 @@ SAMPLES = __import__("pathlib").Path(__file__).resolve().parents[1] / "sample_me
 
 @pytest.mark.parametrize("name", ["workshop_portal.vtu", "footbridge.vtu", "lattice_mast.vtu"])
 def test_samples_recovered_axial_forces_equal_exported(name):
-    # the samples' axial_force.<case> were exported from framebuckle.static's first-order solution
+    # the samples' axial_force.<case> were exported from framebuckle.solver.static's first-order solution
     # (mid-length N); the recovery from their displacement.<case> fields must reproduce them to
     # 1e-8 of the largest |N| (E A / L times the elongation = the mean of the end forces)
-    from framebuckle.read import read_input
-    from framebuckle.recover import recover_case
+    from framebuckle.io.read import read_input
+    from framebuckle.io.recover import recover_case
     im = read_input(SAMPLES / name)
     assert im.cases
     for case in im.cases:

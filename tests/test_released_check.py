@@ -1,6 +1,6 @@
 """Everything after the solve uses the matrices the solve used: end releases, end-moment terms
 and warping DOFs in the energies, shares, carrying members, sensitivities and the imperfection's
-end moments (framebuckle.solvedmatrices)."""
+end moments (framebuckle.engineering.solvedmatrices)."""
 
 import math
 
@@ -9,10 +9,11 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle.assemble import Assembler
-from framebuckle.check import run_check
-from framebuckle.participation import case_energies, element_energies
-from framebuckle.solvedmatrices import for_case
+from framebuckle.mechanics.assemble import Assembler
+from framebuckle.engineering.check import run_check
+from framebuckle.engineering.participation import case_energies, element_energies
+from framebuckle.engineering.solvedmatrices import for_case
+from framebuckle.io.study import study_from_dict
 
 import frames as F
 
@@ -116,7 +117,7 @@ def test_released_base_imperfection_is_e0():
     res = fb.solve(m, subdivide=8, modes=1)
     assert res.cases[0].alpha_cr * 1000.0 == pytest.approx(math.pi ** 2 * F.E * 8e-6 / 16.0, rel=1e-3)
     e0 = 0.016
-    rep = run_check(res, fb.study.study_from_dict({"imperfection": {"e0": e0}}))
+    rep = run_check(res, study_from_dict({"imperfection": {"e0": e0}}))
     imp = rep.imperfection
     assert imp["scale"] == pytest.approx(e0, rel=2e-3)
     assert imp["M_cr"] == pytest.approx(imp["N_cr"] * 1.0, rel=2e-3)     # E I eta''max = N_cr * 1

@@ -1,4 +1,4 @@
-"""End releases by static condensation (framebuckle.releases)."""
+"""End releases by static condensation (framebuckle.model.releases)."""
 
 import math
 
@@ -6,10 +6,10 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle.elements import bar_elastic_local, bar_geometric_local, local_matrices
+from framebuckle.mechanics.elements import bar_elastic_local, bar_geometric_local, local_matrices
 from framebuckle.errors import FrameBuckleError, ModelError
-from framebuckle.model import make_frame
-from framebuckle.refine import subdivide
+from framebuckle.model.model import make_frame
+from framebuckle.model.refine import subdivide
 from mech_models import E, G, column_mesh
 
 L, I = 4.0, 6e-6

@@ -11,10 +11,10 @@ import pytest
 from PIL import Image
 
 import framebuckle as fb
-from framebuckle import render, shapes
-from framebuckle.progress import Progress
-from framebuckle.viewer import build_viewer
-from framebuckle.write import write_result
+from framebuckle.pictures import render, shapes
+from framebuckle.io.progress import Progress
+from framebuckle.pictures.viewer import build_viewer
+from framebuckle.io.write import write_result
 
 import picture_models as pm
 

@@ -12,7 +12,7 @@ import pytest
 from PIL import Image
 
 import framebuckle as fb
-from framebuckle import plots, report
+from framebuckle.pictures import plots, report, reportnumbers
 
 import picture_models as pm
 
@@ -65,11 +65,11 @@ def test_load_factor_table_and_governing_members(built):
 def test_energy_shares_sum_to_one_and_find_the_columns():
     res = fb.solve(pm.portal_3d(), modes=1)
     for c in res.cases:
-        share = report.energy_shares(res, c.name)
+        share = reportnumbers.energy_shares(res, c.name)
         # element strain energies u_e^T K_e u_e / 2 are >= 0 and add up to the total (common practice)
         assert share.shape == (9,) and abs(share.sum() - 1) < 1e-12 and (share >= -1e-15).all()
     # in this model the two most compressed columns (cells 1 and 2) bend most in the first mode
-    gov = np.argsort(-report.energy_shares(res, "gravity"))[:2]
+    gov = np.argsort(-reportnumbers.energy_shares(res, "gravity"))[:2]
     assert set(gov.tolist()) == {1, 2}
 
 

@@ -15,7 +15,7 @@ import meshio
 import numpy as np
 import pytest
 
-from framebuckle.read import point_sets
+from framebuckle.io.read import point_sets
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = ROOT / "sample_meshes"
@@ -148,7 +148,7 @@ def test_msh_point_fields_follow_their_points():
     import numpy as np
     from scipy.spatial import cKDTree
 
-    from framebuckle.read import read_mesh
+    from framebuckle.io.meshfile import read_mesh
 
     here = Path(__file__).resolve().parents[1] / "sample_meshes"
     vtu = meshio.read(here / "footbridge.vtu")

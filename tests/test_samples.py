@@ -8,10 +8,10 @@ import meshio
 import numpy as np
 import pytest
 
-from framebuckle.assemble import Assembler
-from framebuckle.elements import element_dofs
-from framebuckle.read import read_mesh
-from framebuckle.static import member_forces
+from framebuckle.mechanics.assemble import Assembler
+from framebuckle.mechanics.elements import element_dofs
+from framebuckle.io.meshfile import read_mesh
+from framebuckle.solver.static import member_forces
 
 ROOT = Path(__file__).resolve().parents[1]
 SAMPLES = ROOT / "sample_meshes"

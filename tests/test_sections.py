@@ -1,4 +1,4 @@
-"""Section constants from shape and dimensions (framebuckle.sections).
+"""Section constants from shape and dimensions (framebuckle.model.sections).
 
 Three kinds of reference:
 
@@ -32,10 +32,10 @@ import numpy as np
 import pytest
 
 from faultkit import E, G, portal, run_cli
-from framebuckle import sections as S
+from framebuckle.model import sections as S
 from framebuckle import solve
 from framebuckle.errors import InputError
-from framebuckle.study import study_from_dict
+from framebuckle.io.study import study_from_dict
 
 CM2, CM4, CM6 = 1e2, 1e4, 1e6 * 1e3  # mm^2 per cm^2, mm^4 per cm^4, mm^6 per 10^3 cm^6
 

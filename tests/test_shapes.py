@@ -6,9 +6,9 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle import shapes
-from framebuckle.elements import local_axes
-from framebuckle.write import write_result
+from framebuckle.pictures import shapes
+from framebuckle.mechanics.elements import local_axes
+from framebuckle.io.write import write_result
 
 import picture_models as pm
 

@@ -7,8 +7,8 @@ import pytest
 import sympy as sp
 
 import framebuckle as fb
-from framebuckle.elements import geometric_4x4
-from framebuckle.model import make_frame
+from framebuckle.mechanics.elements import geometric_4x4
+from framebuckle.model.model import make_frame
 from mech_models import E, G, column_mesh, static_solve
 
 L, I, A = 1.0, 6e-6, 4e-3

@@ -13,12 +13,12 @@ import importlib
 import numpy as np
 import pytest
 
-from framebuckle.eigen import factor_shift, rough_lowest
-from framebuckle.solve import buckling_modes
+from framebuckle.solver.eigen import factor_shift, rough_lowest
+from framebuckle.solver.solve import buckling_modes
 
 from test_block_eigen import columns, dense_load_factors, matrices, portal_grid
 
-solve_mod = importlib.import_module("framebuckle.solve")
+solve_mod = importlib.import_module("framebuckle.solver.solve")
 
 
 @pytest.fixture(scope="module")
@@ -76,7 +76,7 @@ def test_shifted_block_warm_start_and_repeats():
 
 
 def test_verify_records_the_shift_as_a_sturm_count(grid):
-    from framebuckle import verify
+    from framebuckle.solver import verify
     f, K, Gm = grid
     er = buckling_modes(f, K, Gm, 6, method="block")
     rec = verify.check_case(K, Gm, er, 6, "test", "c")

@@ -1,4 +1,4 @@
-"""First-order static solver (framebuckle.static) against closed forms.
+"""First-order static solver (framebuckle.solver.static) against closed forms.
 
 Reference: Gere & Goodno 2009, Mechanics of Materials; Roark's Formulas for Stress and Strain; Hibbeler, Structural Analysis (named beside each check).
 """
@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 
 from framebuckle.errors import ModelError
-from framebuckle.model import make_frame
-from framebuckle.static import member_forces, self_weight, solve_static
+from framebuckle.model.model import make_frame
+from framebuckle.solver.static import member_forces, self_weight, solve_static
 
 E, G = 2.1e11, 8.1e10
 A, IY, IZ, J = 5.38e-3, 8.36e-5, 6.04e-6, 2.0e-7
@@ -188,8 +188,8 @@ def test_equilibrium_and_joint_balance_3d():
     m_rea = np.cross(fr.nodes, res.reactions[:, :3]).sum(0) + res.reactions[:, 3:].sum(0)
     np.testing.assert_allclose(m_rea, -m_app, rtol=1e-9, atol=1e-6)
     # joint balance with the actual nodal loads (not the equivalent member loads)
-    from framebuckle.assemble import Assembler
-    from framebuckle.elements import element_dofs
+    from framebuckle.mechanics.assemble import Assembler
+    from framebuckle.mechanics.elements import element_dofs
     asm = Assembler.build(fr)
     fg = np.einsum("eji,ej->ei", asm.T, res.forces.local)
     joint = np.bincount(element_dofs(fr).ravel(), weights=fg.ravel(), minlength=fr.n_dofs).reshape(-1, 6)

@@ -8,12 +8,13 @@ import pytest
 import scipy.linalg as sla
 
 import framebuckle as fb
-from framebuckle.check import _verdict_short, members_csv, run_check
-from framebuckle.globalmode import MEMBER_TEXT
-from framebuckle.participation import chord_work, element_energies, participation
-from framebuckle.static import solve_static
-from framebuckle.read import read_input
-from framebuckle.study import study_from_dict
+from framebuckle.engineering.check import _verdict_short, run_check
+from framebuckle.engineering.checkfiles import members_csv
+from framebuckle.engineering.globalmode import MEMBER_TEXT
+from framebuckle.engineering.participation import chord_work, element_energies, participation
+from framebuckle.solver.static import solve_static
+from framebuckle.io.read import read_input
+from framebuckle.io.study import study_from_dict
 
 import frames as F
 
@@ -27,7 +28,7 @@ def _case(rep, i=0):
 
 def _dense_kinds(res, name="default"):
     """All load factors of the case's pencil by scipy's dense solver, and their mode types."""
-    from framebuckle.members import group_members
+    from framebuckle.mechanics.members import group_members
     pencil = res.pencil
     _, K, G = pencil(name)
     mu, V = sla.eigh(-G.toarray(), K.toarray())
@@ -213,7 +214,7 @@ def test_bad_sway_settings():
 
 
 def test_report_shows_the_sway_verdict_and_member_buckling():
-    from framebuckle.report import build_html
+    from framebuckle.pictures.report import build_html
     res = fb.solve(F.sway_frame(**BRACED), subdivide=4, modes=4, planar=True)
     rep = run_check(res)
     page = build_html(res, {}, [], rep, when="test")

@@ -24,16 +24,16 @@ import scipy.linalg as sla
 import scipy.sparse as sp
 
 import framebuckle as fb
-from framebuckle import verify
-from framebuckle.assemble import Assembler
-from framebuckle.read import read_input
-from framebuckle.refine import subdivide
+from framebuckle.solver import verify
+from framebuckle.mechanics.assemble import Assembler
+from framebuckle.io.read import read_input
+from framebuckle.model.refine import subdivide
 
 import frames
 import refmodels
 from unitsys import SYSTEMS, convert
 
-S = sys.modules["framebuckle.solve"]   # the module (fb.solve is the API function)
+S = sys.modules["framebuckle.solver.solve"]   # the module (fb.solve is the API function)
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_meshes"
 REL = 1e-8
 

@@ -22,8 +22,8 @@ import pytest
 
 import framebuckle as fb
 from faultkit import A, E, G, IY, IZ, J, mesh_from, portal, portal_arrays
-from framebuckle.check import run_check
-from framebuckle.study import study_from_dict
+from framebuckle.engineering.check import run_check
+from framebuckle.io.study import study_from_dict
 
 KN_MM_MPA = {"units": {"force": "kN", "length": "mm", "stress": "MPa"}}
 

@@ -1,5 +1,5 @@
 """Wrong answers are refused: residual, K-orthogonality, convergence and Sturm
-sequence checks of framebuckle.verify, against scipy's dense symmetric
+sequence checks of framebuckle.solver.verify, against scipy's dense symmetric
 eigensolver (scipy.linalg.eigh, LAPACK) as the reference.
 
 Sturm sequence property / Sylvester's law of inertia: the number of negative
@@ -19,15 +19,15 @@ import pytest
 import scipy.linalg as sla
 
 import framebuckle as fb
-from framebuckle import verify
-from framebuckle.assemble import Assembler
+from framebuckle.solver import verify
+from framebuckle.mechanics.assemble import Assembler
 from framebuckle.errors import SolverError
-from framebuckle.read import read_input
-from framebuckle.refine import subdivide
+from framebuckle.io.read import read_input
+from framebuckle.model.refine import subdivide
 
 from faultkit import IY, IZ, mesh_from, portal, portal_arrays
 
-S = sys.modules["framebuckle.solve"]   # the module (fb.solve is the API function)
+S = sys.modules["framebuckle.solver.solve"]   # the module (fb.solve is the API function)
 
 
 def _pencil(mesh, m=3):
@@ -173,7 +173,7 @@ def test_iterative_solution_of_a_repeated_cluster_is_complete():
 
 
 def _api_module():
-    return sys.modules["framebuckle.api"]
+    return sys.modules["framebuckle.pipeline.api"]
 
 
 @pytest.fixture

@@ -1,4 +1,4 @@
-"""Warping torsion with a 7th DOF per node (framebuckle.warping)."""
+"""Warping torsion with a 7th DOF per node (framebuckle.solver.warping)."""
 
 import math
 

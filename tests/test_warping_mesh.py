@@ -1,4 +1,4 @@
-"""Warping results do not depend on how members are cut into cells (framebuckle.twistlength)."""
+"""Warping results do not depend on how members are cut into cells (framebuckle.mechanics.twistlength)."""
 
 import math
 from pathlib import Path
@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 import framebuckle as fb
-from framebuckle.read import read_input
+from framebuckle.io.read import read_input
 from mech_models import E, G
 
 SAMPLES = Path(__file__).resolve().parents[1] / "sample_meshes"

@@ -7,9 +7,9 @@ alpha_cr is an elastic indicator, not a resistance; the governing local
 code and a qualified engineer decide.
 """
 
-from .api import solve
+from .pipeline.api import solve
 from .errors import FrameBuckleError, InputError, ModelError, OutputError, SolverError
-from .results import CAUTIONS, CaseResult, Result
+from .pipeline.results import CAUTIONS, CaseResult, Result
 
 __version__ = "0.1.0"
 __all__ = ["solve", "Result", "CaseResult", "CAUTIONS", "FrameBuckleError", "InputError",

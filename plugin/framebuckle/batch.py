@@ -54,9 +54,9 @@ def expand_inputs(patterns) -> list[str]:
 def governing_member(result, case) -> object:
     """Input member (``member`` field, else input cell number) doing most of the
     geometric work ``-u^T K_g,e u`` in the first mode of ``case`` (the matrices the solve
-    used: :mod:`framebuckle.solvedmatrices`); None without modes."""
-    from .participation import element_energies
-    from .solvedmatrices import for_case
+    used: :mod:`framebuckle.engineering.solvedmatrices`); None without modes."""
+    from .engineering.participation import element_energies
+    from .engineering.solvedmatrices import for_case
     c = result.case(case)
     if c.status != "ok" or not len(c.load_factors):
         return None
@@ -78,7 +78,7 @@ def governing_member(result, case) -> object:
 def _check(result, study):
     """The ``check`` stage's report (verdicts, governing members), or None if it fails."""
     try:
-        from .check import run_check
+        from .engineering.check import run_check
     except ImportError:
         return None
     try:
@@ -92,14 +92,14 @@ def _verdict(entry) -> str:
     short verdict text; "n/a" when no check was made."""
     if not entry or "passed" not in entry:
         return NOT_AVAILABLE
-    from .check import _verdict_short
+    from .engineering.check import _verdict_short
     short = _verdict_short(entry.get("verdicts", []))
     return ("pass" if entry["passed"] else "fail") + (f" ({short})" if short else "")
 
 
 def run_file(path: str, study=None, modes: int | None = None, subdivide: int | None = None) -> list[dict]:
     """Solve one file; return one row per case, or one error row (never raises)."""
-    from .api import _as_study, solve
+    from .pipeline.api import _as_study, solve
     try:
         st = _as_study(study)
         res = solve(path, st, modes=modes, subdivide=subdivide)
@@ -155,13 +155,13 @@ def run_batch(inputs, study=None, *, scheduler: str | None = None, client=None,
 
     ``client``: an existing ``distributed.Client`` (else one is made from
     ``scheduler`` or a new local cluster).  ``on_row(rows)`` is called as each
-    file finishes; ``progress(name)`` is called likewise (e.g. a :class:`~framebuckle.progress.Progress`).
+    file finishes; ``progress(name)`` is called likewise (e.g. a :class:`~framebuckle.io.progress.Progress`).
     """
     files = expand_inputs(inputs)
     if not files:
         raise InputError("no input files", source="framebuckle batch")
     if study is not None and not isinstance(study, dict):
-        from .study import load_study
+        from .io.study import load_study
         load_study(study)                       # a bad study file stops the batch before it starts
         study = str(Path(study).resolve())
     own = None
@@ -209,9 +209,9 @@ def table_csv(rows) -> str:
 
 
 def write_table(rows, out_dir, force: bool = True) -> dict:
-    from .results import CAUTIONS
-    from .outputs import OutputSet
-    from .write import json_text, prepare_dir
+    from .pipeline.results import CAUTIONS
+    from .io.outputs import OutputSet
+    from .io.write import json_text, prepare_dir
     out = prepare_dir(Path(out_dir))
     paths = {"csv": out / "batch.csv", "json": out / "batch.json"}
     with OutputSet(force).add_all(paths.values()) as outs:      # both or neither

@@ -14,7 +14,7 @@ from pathlib import Path
 
 from . import __version__
 from .errors import FrameBuckleError
-from .results import CAUTIONS
+from .pipeline.results import CAUTIONS
 
 
 def _positive_int(text):
@@ -104,10 +104,10 @@ def _window(text):
 
 def cmd_render(args) -> int:
     from .errors import InputError
-    from .outputs import folder_lock
-    from .progress import Progress
-    from .render import gl_probe, render_all
-    from .viewer import load_modes, result_stem
+    from .io.outputs import folder_lock
+    from .io.progress import Progress
+    from .pictures.render import gl_probe, render_all
+    from .pictures.viewer import load_modes, result_stem
     if args.scale is not None and not (args.scale >= 0 and args.scale < float("inf")):
         raise InputError(f"--scale must be a finite number >= 0, got {args.scale}")
     gl_probe()                      # no GL: the documented error now, not a crash after the solve
@@ -131,13 +131,13 @@ def cmd_render(args) -> int:
 
 
 def cmd_view(args) -> int:
-    from .render import has_display
+    from .pictures.render import has_display
     if not has_display():
         print("framebuckle: error: no display (DISPLAY and WAYLAND_DISPLAY are not set), so no window "
               f"can open; write pictures instead: framebuckle render {args.input} --out DIR",
               file=sys.stderr)
         return 2
-    from .viewer import build_viewer, load_modes
+    from .pictures.viewer import build_viewer, load_modes
     ms, _ = load_modes(args.input, args.study, args.modes, args.subdivide)
     plotter, _ = build_viewer(ms, args.case, args.mode)
     print("caution: " + " ".join(CAUTIONS))
@@ -146,12 +146,12 @@ def cmd_view(args) -> int:
 
 
 def cmd_report(args) -> int:
-    from .api import solve
-    from .outputs import folder_lock
-    from .progress import Progress
-    from .report import make_report
-    from .study import load_study
-    from .write import output_stem
+    from .pipeline.api import solve
+    from .io.outputs import folder_lock
+    from .io.progress import Progress
+    from .pictures.report import make_report
+    from .io.study import load_study
+    from .io.write import output_stem
     study = load_study(args.study) if args.study else None
     with folder_lock(args.out, args.force) as out:
         _precheck(out, [f"{output_stem(args.input)}.report.html"], args)
@@ -168,7 +168,7 @@ def cmd_report(args) -> int:
 
 def _precheck(out, names, args):
     """Refuse unusable output targets before the solve (they are checked again when written)."""
-    from .outputs import check_target
+    from .io.outputs import check_target
     for n in names:
         check_target(out / n, args.force, [args.input])
 
@@ -215,10 +215,10 @@ def print_result(result, paths, stream=None):
 
 def cmd_solve(args) -> int:
     import time
-    from .api import solve
-    from .outputs import folder_lock
-    from .progress import Progress
-    from .write import output_stem, write_result
+    from .pipeline.api import solve
+    from .io.outputs import folder_lock
+    from .io.progress import Progress
+    from .io.write import output_stem, write_result
     with folder_lock(args.out, args.force) as out:
         stem = output_stem(args.input)
         _precheck(out, [f"{stem}.modes.vtu", f"{stem}.modes_fine.vtu", f"{stem}.summary.json"], args)
@@ -241,8 +241,8 @@ def cmd_solve(args) -> int:
 
 def cmd_batch(args) -> int:
     from .batch import expand_inputs, run_batch, write_table
-    from .outputs import check_target, folder_lock
-    from .progress import Progress
+    from .io.outputs import check_target, folder_lock
+    from .io.progress import Progress
     with folder_lock(args.out, args.force) as out:
         for n in ("batch.csv", "batch.json"):
             check_target(out / n, args.force)
@@ -275,11 +275,12 @@ def cmd_check(args) -> int:
     """Exit 0 when every case passes, 1 when any fails (2 on bad input, from main)."""
     import json
 
-    from .api import _as_study, solve
-    from .check import format_table, run_check, write_check
-    from .write import _jsonable
-    from .outputs import folder_lock
-    from .write import output_stem
+    from .pipeline.api import _as_study, solve
+    from .engineering.checkfiles import format_table, write_check
+    from .engineering.check import run_check
+    from .io.write import _jsonable
+    from .io.outputs import folder_lock
+    from .io.write import output_stem
     study = _as_study(args.study)
     with folder_lock(args.out, args.force) as out:
         stem = output_stem(args.input)
@@ -357,7 +358,7 @@ def _run(args) -> int:
             pass
         return 130
     except OSError as exc:           # a file error no stage turned into a message: still no traceback
-        from .outputs import os_message
+        from .io.outputs import os_message
         where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
         print(f"framebuckle: error: {where}{os_message(exc)}", file=sys.stderr)
         return 2

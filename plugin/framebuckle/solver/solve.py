@@ -1,0 +1,443 @@
+r"""Supports, factorization and the buckling eigensolution.
+
+The load factors are the positive roots of :math:`(K + \lambda K_g)\phi = 0`.
+With :math:`K` symmetric positive definite on the free DOFs we iterate on
+
+.. math::  -K_g \phi = \mu K \phi, \qquad \mu = 1/\lambda,
+
+for the largest algebraic :math:`\mu` (ARPACK in generalized mode with
+:math:`K^{-1}` applied from one factorization).  Shift-invert about
+:math:`\sigma = 0` on the original pencil is *not* used: :math:`-K_g` is
+indefinite whenever some members are in tension.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.linalg as sla
+import scipy.sparse as sp
+import scipy.sparse.csgraph as csgraph
+import scipy.sparse.linalg as spla
+
+from ..errors import ModelError, SolverError
+from ..model.model import DOF_NAMES, Frame
+
+#: relative pivot below which a DOF is taken as free (mechanism)
+PIVOT_TOL = 1e-11
+#: relative eigen-residual above which a mode is refused
+RESIDUAL_TOL = 1e-6
+#: models with at most this many free DOFs are solved densely by default
+DENSE_LIMIT = 240
+#: Krylov residual ||A x - theta x||_K / theta at which the block eigensolver stops
+BLOCK_TOL = 1e-8
+#: a block solution whose residual is above this share of RESIDUAL_TOL is polished once (one
+#: step of subspace iteration) before the check, so that the check is rarely decided by rounding
+ACCEPT_FRACTION = 1e-2
+
+
+@dataclass(frozen=True)
+class Constraints:
+    free: np.ndarray            # free DOF numbers
+    fixed: np.ndarray           # (n_dofs,) bool
+    n_auto: int                 # rotational DOFs restrained because nothing stiffens them
+    planar_axis: int | None     # global axis normal to the plane of a planar model
+    notes: tuple = ()
+
+
+def find_constraints(frame: Frame, K: sp.spmatrix, planar: bool | str = "auto") -> Constraints:
+    """Fixed DOFs: restraints, DOFs with no stiffness at all, and planar out-of-plane DOFs."""
+    n = frame.n_nodes
+    fixed = frame.restraint.reshape(-1).copy()
+    notes = []
+    diag = np.abs(K.diagonal()).reshape(n, 6)
+    rot = diag[:, 3:]
+    ref = rot.max() if rot.size and rot.max() > 0 else 1.0
+    auto = (rot <= 1e-14 * ref) & ~frame.restraint[:, 3:]
+    fixed.reshape(n, 6)[:, 3:] |= auto
+    n_auto = int(auto.sum())
+    if n_auto:
+        notes.append(f"{n_auto} rotational DOF(s) with no element stiffness (nodes joined only "
+                     f"by bars or released members) were restrained automatically")
+    axis = None
+    if planar is True or planar == "auto":
+        axis = plane_axis(frame.nodes)
+        if axis is not None:
+            oop = out_of_plane_dofs(axis)
+            if planar == "auto" and frame.restraint[:, oop].any():
+                axis = None
+            else:
+                fixed.reshape(n, 6)[:, oop] = True
+                notes.append(f"planar model in the {'XYZ'.replace('XYZ'[axis], '')} plane: analysed in "
+                             f"its plane (out-of-plane DOFs {', '.join(DOF_NAMES[i] for i in oop)} "
+                             f"restrained)")
+    free = np.flatnonzero(~fixed)
+    return Constraints(free, fixed, n_auto, axis, tuple(notes))
+
+
+def plane_axis(nodes: np.ndarray) -> int | None:
+    """Global axis normal to the plane of the nodes, or None if not planar in a global plane."""
+    span = np.ptp(nodes, axis=0)
+    scale = span.max()
+    if scale <= 0:
+        return None
+    flat = span <= 1e-9 * scale
+    if flat.sum() == 1:
+        return int(np.flatnonzero(flat)[0])
+    return None
+
+
+def out_of_plane_dofs(axis: int) -> list[int]:
+    others = [i for i in range(3) if i != axis]
+    return [axis] + [3 + i for i in others]
+
+
+def describe_node(node: int, n_input: int, fine: Frame | None = None, coarse_cell=None) -> str:
+    if node < n_input:
+        return f"point {node}"
+    if coarse_cell is not None:
+        return f"a sub-division point inside cell {coarse_cell[node]}"
+    return f"sub-division point {node}"
+
+
+def check_supported(frame: Frame, cons: Constraints, n_input: int, source: str):
+    """Refuse parts of the structure that have no restrained DOF at all."""
+    e = frame.elements
+    g = sp.coo_matrix((np.ones(len(e)), (e[:, 0], e[:, 1])), shape=(frame.n_nodes,) * 2)
+    ncomp, label = csgraph.connected_components(g, directed=False)
+    used = np.zeros(frame.n_nodes, bool)
+    used[e.ravel()] = True
+    fixed = cons.fixed.reshape(-1, 6)
+    for c in range(ncomp):
+        members = np.flatnonzero((label == c) & used)
+        if members.size == 0:
+            continue
+        if not fixed[members, :3].any():
+            pts = [int(p) for p in members if p < n_input][:8]
+            raise ModelError(
+                f"a part of the structure has no support: points {pts}"
+                f"{' ...' if members.size > 8 else ''} ({members.size} points) are not connected "
+                f"to any restrained point. Probable cause: a missing support or a missing joint "
+                f"between parts", source=source)
+    return ncomp
+
+
+def symmetric_scaling(Kff) -> np.ndarray:
+    r"""The diagonal :math:`d = \mathrm{diag}(K)^{-1/2}` of the symmetric scaling :math:`D K D`.
+
+    A change of units turns :math:`K` into :math:`c S^{-1} K S^{-1}` (``S`` diagonal: the
+    length unit on translations, 1 on rotations, ``c`` the force and length units' product);
+    :math:`D` becomes :math:`c^{-1/2} S D`, so :math:`D K D` (unit diagonal) and
+    :math:`D K_g D` are the same in every set of units, and so is everything computed from
+    them.  The eigenvalues of the pencil are unchanged (congruence); modes map back as
+    :math:`\phi = D \tilde\phi`.  A DOF with no positive diagonal keeps ``d = 1``.
+    """
+    diag = np.asarray(Kff.diagonal(), float)
+    d = np.ones_like(diag)
+    pos = diag > 0
+    d[pos] = 1.0 / np.sqrt(diag[pos])
+    return d
+
+
+def scale_matrix(M, d: np.ndarray) -> sp.csr_matrix:
+    """``D M D`` for ``D = diag(d)``: a new CSR matrix, O(nnz), exactly symmetric if ``M`` is."""
+    M = sp.csr_matrix(M, dtype=float, copy=True)
+    rows = np.repeat(np.arange(M.shape[0]), np.diff(M.indptr))
+    M.data *= d[rows] * d[M.indices]
+    return M
+
+
+def relative_residuals(Kff, Gff, lam, V) -> np.ndarray:
+    r""":math:`\|W (K + \lambda K_g)\phi\| / \|W K \phi\|` per mode, :math:`W = \mathrm{diag}(K)^{-1/2}`.
+
+    The weights make the measure independent of the units (and of whether the pencil
+    given is already scaled: then ``W`` is the identity).
+    """
+    w = symmetric_scaling(Kff)[:, None]
+    KV = Kff @ V
+    r = np.linalg.norm(w * (KV + np.asarray(lam) * (Gff @ V)), axis=0)
+    return r / np.maximum(np.linalg.norm(w * KV, axis=0), 1e-300)
+
+
+class Factor:
+    """Sparse LU of the (symmetric positive definite) free-free stiffness, factored once.
+
+    ``scale``: set by :func:`factorize` when the matrix factored is the scaled
+    :math:`D K D`; physical DOFs are ``scale * x`` of the scaled ones (None: not scaled).
+    """
+
+    scale = None
+
+    def __init__(self, Kff: sp.spmatrix):
+        Kff = sp.csc_matrix(Kff)
+        self.n = Kff.shape[0]
+        self.lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                            options={"SymmetricMode": True})
+
+    def solve(self, b: np.ndarray) -> np.ndarray:
+        return self.lu.solve(np.asarray(b, dtype=float))
+
+    def pivots(self) -> tuple[np.ndarray, np.ndarray]:
+        """(pivot, column) pairs of the factorization.
+
+        SuperLU factors ``Pr A Pc = L U``; ``U[j, j]`` belongs to column
+        ``argsort(perm_c)[j]`` of ``A`` (not ``perm_c[j]``).
+        """
+        return self.lu.U.diagonal(), np.argsort(self.lu.perm_c)
+
+
+def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, source: str,
+              coarse_cell=None, scale: bool = False) -> tuple[Factor, sp.csr_matrix]:
+    """Factor K on the free DOFs; refuse a singular (mechanism) stiffness naming free DOFs.
+
+    ``scale=True``: factor and return the scaled :math:`D K_{ff} D` (:func:`symmetric_scaling`;
+    the factor's ``scale`` holds ``d``), the form the pipeline solves in whatever the units.
+    """
+    free = cons.free
+    Kff = sp.csr_matrix(K)[free][:, free]
+    d_scale = None
+    if scale:
+        d_scale = symmetric_scaling(Kff)
+        Kff = scale_matrix(Kff, d_scale)
+    d = np.abs(Kff.diagonal())
+    try:
+        f = Factor(Kff)
+        piv, cols = f.pivots()
+        ratio = np.abs(piv) / np.maximum(d[cols], 1e-300)
+        bad = cols[(ratio < PIVOT_TOL) | (piv <= 0)]
+    except RuntimeError:  # exactly singular: diagnose on a slightly shifted matrix
+        shifted = Kff + sp.diags(1e-9 * np.maximum(d, d.max() * 1e-12))
+        f2 = Factor(shifted)
+        piv, cols = f2.pivots()
+        bad = cols[np.abs(piv) / np.maximum(d[cols], 1e-300) < 1e-6]
+        bad = np.union1d(bad, np.flatnonzero(d <= 1e-14 * d.max()))  # DOFs with no stiffness at all
+        if bad.size == 0:
+            bad = cols[np.argsort(np.abs(piv) / np.maximum(d[cols], 1e-300))[:1]]
+    if bad.size:
+        gdofs = free[np.sort(bad)]
+        raise ModelError(_mechanism_message(gdofs, frame, n_input, coarse_cell), source=source)
+    f.scale = d_scale
+    return f, Kff
+
+
+def _mechanism_message(gdofs, frame: Frame, n_input: int, coarse_cell) -> str:
+    nodes = gdofs // 6
+    comps = gdofs % 6
+    parts = []
+    for node in np.unique(nodes)[:8]:
+        names = [DOF_NAMES[c] for c in comps[nodes == node]]
+        parts.append(f"{describe_node(int(node), n_input, frame, coarse_cell)} ({', '.join(names)})")
+    more = len(np.unique(nodes)) - 8
+    rot_only = (comps >= 3).all()
+    if rot_only and set(comps.tolist()) <= {3, 4, 5}:
+        cause = ("members free to rotate about their own axis or at a joint: restrain the twist "
+                 "(rx/ry/rz) at a support or check releases")
+    else:
+        cause = ("a mechanism: missing supports, pin-jointed bars without triangulation, or a "
+                 "member connected at one end only")
+    return (f"the stiffness matrix is singular (the structure is a mechanism). Free DOFs: "
+            f"{'; '.join(parts)}{f'; and {more} more points' if more > 0 else ''}. "
+            f"Probable cause: {cause}")
+
+
+def _start_vector(n: int, v0: np.ndarray | None = None) -> np.ndarray:
+    """A deterministic starting vector with a component along every mode.
+
+    A Krylov space grown from a previous case's mode alone stays inside the part of
+    the structure (or the symmetry class) that mode lives in: modes of other parts,
+    even a lower alpha_cr, are then never found.  A fixed pseudo-random vector is
+    added so the start is generic; ``v0`` (previous modes) keeps its head start.
+    """
+    r = np.random.default_rng(20240601).standard_normal(n)
+    r /= np.linalg.norm(r)
+    if v0 is None:
+        return r
+    v = np.asarray(v0, float)
+    if v.ndim == 2:
+        v = v.sum(axis=1)
+    nv = np.linalg.norm(v)
+    return r if not np.isfinite(nv) or nv == 0 else v / nv + r
+
+
+def _arpack(A, Kff, op, kk, ncv, start, case, source, tol=1e-12):
+    """Largest algebraic ``mu`` of ``A x = mu K x`` (ARPACK, K applied inverted by ``op``), descending."""
+    n = Kff.shape[0]
+    try:
+        mu, vec = spla.eigsh(A, k=kk, M=Kff, Minv=op, which="LA", ncv=ncv, tol=tol,
+                             v0=start, maxiter=max(1000, 20 * n))
+    except spla.ArpackNoConvergence as exc:
+        raise SolverError(f"case '{case}': the eigensolver did not converge "
+                          f"({len(exc.eigenvalues)} of {kk} modes)", source=source) from None
+    order = np.argsort(mu)[::-1]
+    return mu[order], vec[:, order]
+
+
+def _add_missed_repeats(mu, vec, Kff, Gff, op, kk, case, source, max_rounds=None):
+    r"""Find the copies of repeated load factors that a single-vector Krylov run skipped.
+
+    A Krylov space holds one vector per distinct eigenvalue (in exact arithmetic), so
+    identical members, whose load factors repeat exactly, lose copies.  The found modes
+    ``V`` are deflated with the K-orthogonal projector :math:`P = I - V C^{-1} V^T K`,
+    :math:`C = V^T K V`, and the pencil :math:`(P^T (-K_g) P, K)` is searched again: it
+    keeps every eigenpair K-orthogonal to ``V`` and moves those in ``V`` to ``mu = 0``.
+    Copies above the current ``kk``-th ``mu`` are merged in, until a search finds none.
+    Each search asks for only a few modes to a loose tolerance: it is a check, usually
+    finding nothing.
+    """
+    n = Kff.shape[0]
+    rounds = kk if max_rounds is None else max_rounds
+    kc = min(kk, 2)
+    for _ in range(rounds):
+        if n - vec.shape[1] <= kc + 2:
+            break
+        KV = Kff @ vec
+        C = vec.T @ KV
+
+        def proj(x, V=vec, KV=KV, C=C):
+            return x - V @ np.linalg.solve(C, KV.T @ x)
+
+        def projT(x, V=vec, KV=KV, C=C):
+            return x - KV @ np.linalg.solve(C, V.T @ x)
+
+        A = spla.LinearOperator((n, n), matvec=lambda x: projT(-(Gff @ proj(x))), dtype=float)
+        start = proj(np.random.default_rng(20240602 + vec.shape[1]).standard_normal(n))
+        floor = max(mu[kk - 1], 0.0) + 1e-9 * abs(mu[0])
+        # a loose search decides (Ritz values are lower bounds of the largest mu) ...
+        mu2, _ = _arpack(A, Kff, op, kc, min(n, kc + 10), start, case, source, tol=1e-6)
+        if not (mu2 > floor).any():
+            break
+        # ... and only a find is computed to full accuracy
+        mu2, vec2 = _arpack(A, Kff, op, kc, min(n, kc + 20), start, case, source)
+        new = mu2 > floor
+        if not new.any():
+            break
+        mu = np.concatenate([mu, mu2[new]])
+        vec = np.concatenate([vec, vec2[:, new]], axis=1)
+        order = np.argsort(mu)[::-1][:kk]
+        mu, vec = mu[order], vec[:, order]
+    return mu, vec
+
+
+@dataclass
+class EigenResult:
+    load_factors: np.ndarray         # (k,) ascending positive
+    modes: np.ndarray                # (n_free, k), K-normalised
+    residuals: np.ndarray            # (k,)
+    cluster_continues: bool = False
+    method: str = "arpack"
+    notes: list = field(default_factory=list)
+    shift: float | None = None       # sigma with K + sigma Kg proved positive definite (no load factor <= sigma)
+
+
+#: shift-invert the block eigensolver at sigma below the lowest load factor (see _shift)
+BLOCK_SHIFT = True
+#: the shift as a fraction of the rough (upper-bound) estimate of the lowest load factor
+SHIFT_FRACTION = 0.9
+
+
+def _shift(factor: Factor, Kff, Gff, v0=None, block: int = 4):
+    r"""Factorization of :math:`K + \sigma K_g` with :math:`0 < \sigma < \lambda_1`, or None.
+
+    :math:`\sigma` is :data:`SHIFT_FRACTION` times an upper bound of :math:`\lambda_1` from a
+    small block Krylov space (started from ``v0``), lowered until the factorization proves
+    :math:`K + \sigma K_g` positive definite (:func:`framebuckle.solver.eigen.factor_shift`).  The
+    eigenvalues :math:`\nu = 1/(\lambda - \sigma)` are then far better separated than
+    :math:`\mu = 1/\lambda` for a cluster of load factors.
+    """
+    from .eigen import factor_shift, rough_lowest
+    try:
+        if v0 is None:                       # a deep Krylov space of a thin block
+            est, start = rough_lowest(factor.solve, Kff, -Gff, block=4, steps=8, nvec=block)
+        else:                                # the previous case's modes and one step on
+            est, start = rough_lowest(factor.solve, Kff, -Gff, X0=v0, block=block, steps=2, nvec=block)
+    except np.linalg.LinAlgError:
+        return None
+    if not np.isfinite(est) or est <= 0:
+        return None
+    sh = factor_shift(Kff, Gff, SHIFT_FRACTION * est)
+    if sh is not None:
+        sh.estimate = float(est)
+        sh.start = start                     # Ritz vectors: the eigensolver's first block
+    return sh
+
+
+def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 4,
+                   method: str = "auto", v0: np.ndarray | None = None,
+                   source: str = "<model>", case: str = "") -> EigenResult:
+    r"""Lowest ``k`` positive load factors of ``(K + lambda Kg) phi = 0`` on the free DOFs.
+
+    ``method``: ``"dense"`` (scipy.linalg.eigh), ``"arpack"`` (one vector at a time),
+    ``"block"`` (block Krylov-Schur, :mod:`framebuckle.solver.eigen`: one solve per block of
+    ``k + 1`` vectors, every mode of a repeated load factor found; run on
+    :math:`\nu = 1/(\lambda - \sigma)` with :math:`K + \sigma K_g` factored and proved positive
+    definite, see :func:`_shift`, when :data:`BLOCK_SHIFT`) or ``"auto"``
+    (dense for small models, else block).  ``v0``: start vector(s), e.g. the previous
+    load case's modes (a 1D vector or an (n, j) block).
+    """
+    n = Kff.shape[0]
+    k = int(k)
+    kk = k + 1                               # one extra to see whether a cluster continues
+    shift = None
+    if method == "auto":
+        method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "block"
+    if method == "dense" or kk + 2 >= n:
+        mu, vec = sla.eigh(-Gff.toarray(), Kff.toarray())
+        order = np.argsort(mu)[::-1]
+        mu, vec = mu[order], vec[:, order]
+        method = "dense"
+    elif method in ("arpack", "sparse"):
+        op = spla.LinearOperator((n, n), matvec=factor.solve, dtype=float)
+        ncv = min(n, max(2 * kk + 1, kk + 20))
+        start = _start_vector(n, v0)
+        mu, vec = _arpack(-Gff, Kff, op, kk, ncv, start, case, source)
+        mu, vec = _add_missed_repeats(mu, vec, Kff, Gff, op, kk, case, source)
+        method = "arpack"
+    elif method == "block":
+        from .eigen import block_krylov_schur
+        calls = []
+
+        def accept(theta, X):                # the residual check below, before it is made: the
+            pos = theta > max(theta.max(), 0.0) * 1e-9   # first time with a margin (a polishing
+            res = relative_residuals(Kff, Gff, 1.0 / theta[pos], X[:, pos])   # step if missed)
+            limit = RESIDUAL_TOL * (ACCEPT_FRACTION if not calls else 1.0)
+            calls.append(float(res.max()) if res.size else 0.0)
+            return bool((res <= limit).all())
+        shift = _shift(factor, Kff, Gff, v0, kk) if BLOCK_SHIFT else None
+        if shift is None:
+            br = block_krylov_schur(factor.solve, Kff, -Gff, kk, X0=v0, tol=BLOCK_TOL, accept=accept)
+        else:                                # nu = 1/(lambda - sigma) of -Kg phi = nu (K + sigma Kg) phi
+            s = shift.sigma
+            br = block_krylov_schur(shift.solve, shift.A, -Gff, kk, X0=shift.start, tol=BLOCK_TOL,
+                                    accept=lambda nu, X: accept(nu / (1.0 + s * nu), X))
+            mu_s = br.theta / (1.0 + s * br.theta)       # mu = 1/lambda, same order for nu > 0,
+            order = np.argsort(-mu_s, kind="stable")     # but rounding can swap exact repeats
+            br.theta, br.vectors = mu_s[order], br.vectors[:, order]
+            br.residuals = br.residuals[order] if len(br.residuals) == len(order) else br.residuals
+            kn = np.einsum("ij,ij->j", br.vectors, Kff @ br.vectors)
+            br.vectors = br.vectors / np.sqrt(np.maximum(kn, 1e-300))   # A- to K-normalised
+        if not br.converged:
+            bad = int(np.argmax(br.residuals >= BLOCK_TOL))
+            raise SolverError(f"case '{case}': the block eigensolver did not converge in {br.cycles} "
+                              f"restarts (mode {bad + 1} of {kk}: residual {br.residuals[bad]:.1e})",
+                              source=source)
+        mu, vec = br.theta, br.vectors
+    else:
+        raise ValueError(f"unknown eigen method {method!r}")
+
+    mu_max = mu.max() if mu.size else 0.0
+    pos = mu > max(mu_max, 0.0) * 1e-9
+    if mu_max <= 0 or not pos.any():
+        return EigenResult(np.empty(0), np.empty((n, 0)), np.empty(0), False, method)
+    mu, vec = mu[pos], vec[:, pos]
+    lam = 1.0 / mu
+    cluster = bool(len(lam) > k and abs(lam[k] - lam[k - 1]) <= 1e-6 * abs(lam[k - 1]))
+    lam, vec = lam[:k], vec[:, :k]
+    res = relative_residuals(Kff, Gff, lam, vec)
+    if (res > RESIDUAL_TOL).any():
+        i = int(np.argmax(res))
+        raise SolverError(f"case '{case}': mode {i + 1} failed its residual check "
+                          f"(||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g})",
+                          source=source)
+    return EigenResult(lam, vec, res, cluster, method,
+                       shift=shift.sigma if method == "block" and shift is not None else None)
