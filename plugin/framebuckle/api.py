@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 
 from . import adequacy as _adequacy
+from . import combosolve as _combos
 from . import sanity, verify
 from . import preload as _preload
 from . import warping as _warping
@@ -19,6 +20,7 @@ from .refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
 from .solve import buckling_modes, check_supported, factorize, find_constraints, scale_matrix
 from .study import Study, load_study, study_from_dict
+from .combosolve import FactoredGeometric, WarmStarts
 from .twistlength import EQUIVALENT_NOTE
 
 DEFAULT_MODES = 4
@@ -146,8 +148,11 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         pcase = next(c for c in im.cases if c.name == pname)
         pre = _preload.prepare(pname, pfac, Kff, scale_matrix(geo(pcase)[free][:, free], dscale),
                                im.source)
+    gff = FactoredGeometric(geo, free, dscale)   # combinations: sum f_i Gff_i (framebuckle.combosolve)
+    env, names = _combos.envelope_of(im, options.get("preload"))
+    warm = WarmStarts(names)
+    solved_F, solved_g, skipped, bounds = [], [], {}, {}
     cases = []
-    v0 = None
     # the Sturm counts of large models run in a second process beside the next case
     worker = verify.SturmWorker.maybe(len(free)) if options.get("parallel_sturm") else None
     try:
@@ -155,12 +160,20 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             t = time.perf_counter()
             stage(f"case {icase + 1}/{len(im.cases)} '{case.name}': eigensolution")
             Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
+            skip, bounds[case.name] = _combos.screened(case, solved_F, solved_g, names, env)
+            if skip:                            # certified above the limit by the hull bound
+                skipped[case.name] = bounds[case.name]
+                continue
+            fvec = _combos.point_of(case, names)
             axial = ref.fine_axial(case.axial)
             scale = np.abs(axial).max() if axial.size else 0.0
             if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
-                cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
+                cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6)),
+                                        notes=list(case.extra.get("notes", []))))
+                _combos.record(solved_F, solved_g, fvec, None)
                 continue
-            Gff = scale_matrix(geo(case)[free][:, free], dscale)
+            Gff = gff(case)
+            v0 = warm.start(case, Kc, Gff, k + 1)
             try:
                 er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
                 try:
@@ -177,11 +190,12 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                     worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             except SolverError as exc:
                 raise _explained(exc, warnings) from None
+            _combos.record(solved_F, solved_g, fvec, er.load_factors[0] if len(er.load_factors) else None)
             if len(er.load_factors) == 0:
                 cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
-                                        method=er.method))
+                                        method=er.method, notes=list(case.extra.get("notes", []))))
                 continue
-            v0 = er.modes                       # warm start of the next case: neighbouring combinations
+            warm.add(case, er.modes)            # warm start of the next cases: nearest combinations
             full = np.zeros((asm.n, er.modes.shape[1]))
             full[free] = dscale[:, None] * er.modes       # the physical (unscaled) modes
             wmodes = full[fine.n_dofs:].T.copy() if asm.n > fine.n_dofs else None
@@ -238,7 +252,9 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     res = Result(im, ref, cons, cases, notes, settings, warnings,
-                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method, dscale))
+                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method, dscale, gff))
+    if env is not None:
+        res.envelope = _combos.envelope_summary(im.cases, cases, skipped, bounds, env, names)
     res.timings.update(timings)
     return res
 
@@ -252,12 +268,14 @@ class CasePencils:
     function on the same input) rather than kept for every case.
     """
 
-    def __init__(self, asm, geo, cons, Kff, factor, pre, cases, method, scale=None):
+    def __init__(self, asm, geo, cons, Kff, factor, pre, cases, method, scale=None, gff=None):
         self.asm, self.geo, self.cons, self.Kff, self.factor, self.pre = asm, geo, cons, Kff, factor, pre
         self._cases = {c.name: c for c in cases}
         self.method = method
         #: the symmetric scaling d the pencil was solved in: ``Kff`` is D K D with D = diag(d)
         self.scale = np.ones(len(cons.free)) if scale is None else scale
+        #: the scaled free-DOF Kg of a case exactly as the solve built it (combinations: factored sums)
+        self.gff = gff or FactoredGeometric(geo, cons.free, self.scale)
 
     @property
     def free(self) -> np.ndarray:
@@ -268,8 +286,7 @@ class CasePencils:
         case = self._cases[name]
         pre = self.pre
         Kc, fac = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (self.Kff, self.factor)
-        free = self.cons.free
-        return fac, Kc, scale_matrix(self.geo(case)[free][:, free], self.scale)
+        return fac, Kc, self.gff(case)
 
     def solve_static(self, f_free: np.ndarray) -> np.ndarray:
         """``K u = f`` on the free DOFs in physical units, through the solve's (scaled) factor:

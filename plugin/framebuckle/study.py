@@ -35,7 +35,8 @@ _SECTION_KEYS = {k: _num for k in ("A", "Iy", "Iz", "J", "Ip", "Iw", "fy", "E", 
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
                  "cases": (list,), "eigensolver": (str,), "mesh_check": (bool, str),
-                 "moment_terms": (bool, str), "warping": (str,), "compression": (str,)},
+                 "moment_terms": (bool, str), "warping": (str,), "compression": (str,),
+                 "combinations_file": (str,)},
     "warping": {"supports": (str,), "points": (list,)},
     "units": {"force": (str,), "length": (str,), "stress": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
@@ -54,6 +55,10 @@ SCHEMA: dict[str, Any] = {
                "allow_all_tension": (bool,)},
     "imperfection": {"case": (str,), "mode": (int,), "amplitude": _num, "e0": _num, "curve": (str,),
                      "W": _num, "fy": _num, "gamma_M1": _num, "alpha_ult_k": _num, "member": (int,)},
+    # load combinations and the envelope over factor ranges (combinations.py, envelope.py):
+    # their keys are the input's case names, checked there
+    "combinations": ("FREE_TABLE",),
+    "envelope": ("FREE_TABLE",),
     "storeys": ("LIST_OF", {"name": (str,), "case": (str,), "P_story": _num, "P_e_story": _num,
                             "H": _num, "height": _num, "drift": _num, "P_mf": _num, "R_M": _num,
                             "level": _num}),
@@ -130,6 +135,10 @@ def _validate(data, schema, prefix, source):
             raise InputError(f"key '{prefix}' must be an array of tables ([[{prefix}]])", source=source)
         for i, item in enumerate(data):
             _validate(item, schema[1], f"{prefix}[{i}]", source)
+        return
+    if isinstance(schema, tuple) and schema and schema[0] == "FREE_TABLE":
+        if not isinstance(data, dict):
+            raise InputError(f"key '{prefix}' must be a table", source=source)
         return
     if isinstance(schema, tuple) and schema and schema[0] == "TABLE_OF":
         if not isinstance(data, dict):
