@@ -224,3 +224,23 @@ def with_combinations(cases: list, study, frame) -> list:
         out = [LoadCase(c.name, c.axial, {**c.extra, "envelope": env, "basic_names": names})
                if c.extra.get("combination") else c for c in out]
     return out
+
+
+def study_with_table(study, table):
+    """The study (path, Study or None) with ``[analysis] combinations_file`` set to ``table``
+    (the command line's ``--combinations``), as a :class:`~framebuckle.study.Study`."""
+    from .study import Study, load_study
+    st = study if isinstance(study, Study) else (load_study(study) if study else Study())
+    p = Path(table)
+    if not p.is_file():
+        raise InputError("combination table not found" if not p.exists() else "not a file",
+                         source=str(p))
+    data = dict(st.data)
+    data["analysis"] = {**data.get("analysis", {}), "combinations_file": str(p.resolve())}
+    return Study(data, st.path)
+
+
+def factors_of_cases(cases) -> dict:
+    """name -> ``"G=1.35;Q=1.5"`` for every combination among ``cases`` (CSV columns)."""
+    return {c.name: ";".join(f"{k}={f:g}" for k, f in c.extra["combination"]["factors"].items())
+            for c in cases if c.extra.get("combination")}

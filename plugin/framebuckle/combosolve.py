@@ -167,3 +167,29 @@ def record(F: list, g: list, f, alpha):
     if f is not None:
         F.append(f)
         g.append(_env.g_of(alpha))
+
+
+def envelope_lines(env: dict | None) -> list:
+    """Terminal lines of the summary's ``envelope`` entry (solve, check)."""
+    if not env:
+        return []
+
+    def fac(e):
+        return ", ".join(f"{k}={v:g}" for k, v in e["factors"].items() if v != 0) or "all factors 0"
+
+    def alpha(a):
+        return "does not buckle" if a is None else f"alpha_cr {a:.4g}"
+    out = [f"envelope: {env['vertices']} vertices of the factor ranges solved"]
+    if env.get("governing"):
+        out.append(f"envelope: governing {env['governing']['case']} ({fac(env['governing'])}): "
+                   f"{alpha(env['governing']['alpha_cr'])}")
+    if env.get("runner_up"):
+        out.append(f"envelope: runner-up {env['runner_up']['case']} ({fac(env['runner_up'])}): "
+                   f"{alpha(env['runner_up']['alpha_cr'])}")
+    for e in env.get("listed", []):
+        b = e["alpha_bound"]
+        bt = (e["bound_note"] or f"certified alpha_cr >= {b:.4g}") if b is None or e["bound_note"] else \
+            f"certified alpha_cr >= {b:.4g}"
+        st = "not solved (certified above the limit " f"{env['limit']:g})" if e["screened"] else alpha(e["alpha_cr"])
+        out.append(f"envelope: {e['name']}: {bt}; {st}")
+    return out
