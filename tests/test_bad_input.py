@@ -343,6 +343,25 @@ def out_is_file(t):
     return [m, "--out", f], ["results", "output folder"], [m, f]
 
 
+def combination_unknown_case(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[combinations]\nULS-1 = { default = 1.35, Wind = 1.5 }\n")
+    return [m, "--study", s], ["study.toml", "[combinations] ULS-1", "'Wind'", "not a basic load case"], [m, s]
+
+
+def combination_factor_not_a_number(t):
+    m = _vtu(t, portal())
+    c = t / "combos.csv"
+    c.write_text("name,default\nULS-1,1.35\nULS-2,one\n")
+    return [m, "--combinations", c], ["combos.csv", "row 3", "ULS-2", "'one' is not a number"], [m, c]
+
+
+def combination_without_compression(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[combinations]\nUPLIFT = { default = -1.0 }\n")
+    return [m, "--study", s], ["study.toml", "UPLIFT", "no member in compression", "signs"], [m, s]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -353,7 +372,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
              study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
              checks_member_share_out_of_range,
-             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign]
+             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign,
+             combination_unknown_case, combination_factor_not_a_number, combination_without_compression]
 
 
 def test_catalogue_is_large_enough():
