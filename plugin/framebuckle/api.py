@@ -175,7 +175,16 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             Gff = gff(case)
             v0 = warm.start(case, Kc, Gff, k + 1)
             try:
-                er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+                try:
+                    er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source,
+                                        case=case.name)
+                except SolverError:
+                    if v0 is None or v0 is warm.last:
+                        raise
+                    # the Ritz start of the nearest combinations stalled the block solver: start
+                    # again from the last case's modes, as for plain cases
+                    er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=warm.last, source=im.source,
+                                        case=case.name)
                 try:
                     checks = verify.check_case(Kc, Gff, er, k, im.source, case.name,
                                                sturm=worker is None)

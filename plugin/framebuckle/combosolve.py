@@ -20,6 +20,8 @@ from .solve import scale_matrix
 
 #: solved combinations whose modes span a new combination's start block
 NEAREST = 3
+#: Rayleigh-Ritz start block from the NEAREST combinations' modes (False: the nearest one's modes)
+RITZ = True
 
 
 def factors_of(case, names) -> np.ndarray | None:
@@ -82,6 +84,8 @@ class WarmStarts:
         span[span == 0] = 1.0
         d = np.linalg.norm((F - f) / span, axis=1)
         near = np.argsort(d, kind="stable")[:NEAREST]
+        if NEAREST == 1 or RITZ is False:
+            return self.modes[near[0]]
         V = np.hstack([self.modes[i] for i in near])
         V, _ = np.linalg.qr(V)
         KV = Kff @ V
