@@ -513,6 +513,25 @@ def polyline_cells(t):
     return [p], ["poly.vtu", "no line cells", "VTK poly-line (type 4)"], [p]
 
 
+def combination_unknown_case(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[combinations]\nULS-1 = { default = 1.35, Wind = 1.5 }\n")
+    return [m, "--study", s], ["study.toml", "[combinations] ULS-1", "'Wind'", "not a basic load case"], [m, s]
+
+
+def combination_factor_not_a_number(t):
+    m = _vtu(t, portal())
+    c = t / "combos.csv"
+    c.write_text("name,default\nULS-1,1.35\nULS-2,one\n")
+    return [m, "--combinations", c], ["combos.csv", "row 3", "ULS-2", "'one' is not a number"], [m, c]
+
+
+def combination_without_compression(t):
+    m = _vtu(t, portal())
+    s = _study(t, "[combinations]\nUPLIFT = { default = -1.0 }\n")
+    return [m, "--study", s], ["study.toml", "UPLIFT", "no member in compression", "signs"], [m, s]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -531,7 +550,9 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              section_key_fraction, study_support_point_float, study_support_point_string,
              study_support_point_huge, study_support_points_nested, study_box_string,
              study_release_cells_string, study_warping_points_string, absurd_force, absurd_coordinates,
-             absurd_subdivision, polyline_cells]
+             absurd_subdivision, polyline_cells,
+
+             combination_unknown_case, combination_factor_not_a_number, combination_without_compression]
 
 
 def test_catalogue_is_large_enough():

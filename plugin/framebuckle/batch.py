@@ -29,7 +29,7 @@ import numpy as np
 
 from .errors import FrameBuckleError, InputError
 
-COLUMNS = ("file", "case", "alpha_cr", "verdict", "governing_member", "status", "error")
+COLUMNS = ("file", "case", "alpha_cr", "verdict", "governing_member", "status", "error", "factors")
 NOT_AVAILABLE = "n/a"
 
 
@@ -106,6 +106,8 @@ def run_file(path: str, study=None, modes: int | None = None, subdivide: int | N
         report = _check(res, st)
         entries = {e["name"]: e for e in report.summary["cases"]} if report is not None else {}
         rows = []
+        from .io.combinations import factors_of_cases
+        fac = factors_of_cases(res.input.cases)
         for c in res.cases:
             e = entries.get(c.name, {})
             gov = (e.get("governing_members") or [None])[0]
@@ -116,7 +118,7 @@ def run_file(path: str, study=None, modes: int | None = None, subdivide: int | N
                     gov = None
             rows.append({"file": str(path), "case": c.name, "alpha_cr": c.alpha_cr,
                          "verdict": _verdict(e), "governing_member": gov,
-                         "status": c.status, "error": ""})
+                         "status": c.status, "error": "", "factors": fac.get(c.name, "")})
         return rows
     except FrameBuckleError as exc:
         msg = str(exc)
@@ -160,8 +162,8 @@ def run_batch(inputs, study=None, *, scheduler: str | None = None, client=None,
     files = expand_inputs(inputs)
     if not files:
         raise InputError("no input files", source="framebuckle batch")
-    if study is not None and not isinstance(study, dict):
-        from .io.study import load_study
+    from .io.study import Study, load_study
+    if study is not None and not isinstance(study, (dict, Study)):
         load_study(study)                       # a bad study file stops the batch before it starts
         study = str(Path(study).resolve())
     own = None

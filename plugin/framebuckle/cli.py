@@ -47,6 +47,7 @@ def build_parser() -> argparse.ArgumentParser:
                                        "cluster of worker processes on this machine)")
     b.add_argument("--workers", type=_positive_int, help="worker processes of the local cluster")
     b.add_argument("--force", action="store_true", help="replace an existing table")
+    _combinations_option(b)
     b.set_defaults(func=cmd_batch)
     c = sub.add_parser("check", help="load factors, effective lengths, participation, stiffening advice, "
                                      "code verdicts and an imperfection; exit 1 when a case fails")
@@ -152,7 +153,7 @@ def cmd_report(args) -> int:
     from .pictures.report import make_report
     from .io.study import load_study
     from .io.write import output_stem
-    study = load_study(args.study) if args.study else None
+    study = (load_study(args.study) if isinstance(args.study, str) else args.study) if args.study else None
     with folder_lock(args.out, args.force) as out:
         _precheck(out, [f"{output_stem(args.input)}.report.html"], args)
         with Progress(0, "solve") as bar:
@@ -181,6 +182,13 @@ def _common(s):
     s.add_argument("--out", default="framebuckle_out", help="output folder (default ./framebuckle_out)")
     s.add_argument("--force", action="store_true", help="replace existing outputs")
     s.add_argument("--timings", action="store_true", help="print the time of each stage")
+    _combinations_option(s)
+
+
+def _combinations_option(s):
+    s.add_argument("--combinations", metavar="FILE.csv",
+                   help="table of load combinations: a name column, then one factor column per basic "
+                        "case (also [analysis] combinations_file)")
 
 
 def _fmt_table(result) -> str:
@@ -208,6 +216,9 @@ def print_result(result, paths, stream=None):
     for c in result.cases:
         for n in c.notes:
             print(f"note [{c.name}]: {n}", file=stream)
+    from .pipeline.combosolve import envelope_lines
+    for line in envelope_lines(s.get("envelope")):
+        print(line, file=stream)
     if paths:
         print("wrote: " + ", ".join(str(p) for p in paths.values()), file=stream)
     print("caution: " + " ".join(CAUTIONS), file=stream)
@@ -307,6 +318,9 @@ def cmd_check(args) -> int:
     for c in s["cases"]:
         for n in c["notes"]:
             print(f"note [{c['name']}]: {n}")
+    from .pipeline.combosolve import envelope_lines
+    for line in envelope_lines(s.get("envelope")):
+        print(line)
     imp = s["check"]["imperfection"]
     if imp and imp.get("skipped"):
         print(f"imperfection: {imp['note']}")
@@ -340,6 +354,9 @@ def main(argv=None) -> int:
 
 def _run(args) -> int:
     try:
+        if getattr(args, "combinations", None):     # --combinations: the study with the table's path
+            from .io.combinations import study_with_table
+            args.study = study_with_table(args.study, args.combinations)
         return int(args.func(args) or 0)
     except FrameBuckleError as exc:
         print(f"framebuckle: error: {exc}", file=sys.stderr)

@@ -46,6 +46,8 @@ CSV_COLUMNS = ("case", "row_type", "mode", "governing_mode", "load_factor", "mod
 
 # per case: the global sway mode's load factor, or its certified lower bound (framebuckle.engineering.globalmode)
 CSV_COLUMNS += ("alpha_cr_sway", "alpha_cr_sway_min")
+# per case: a combination's factors, "G=1.35;Q=1.5" (framebuckle.io.combinations); empty for a basic case
+CSV_COLUMNS += ("factors",)
 
 #: ratio storey-drift / eigenvalue alpha_cr,sway inside which the two agree as usual for beam-and-column
 #: frames (common practice: the simple method ignores the columns' own bowing, about 12 / pi^2 = 1.22 at
@@ -137,6 +139,10 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     if tension:
         summary["check"]["sign_convention"] = tension
     summary["cautions"] = list(CAUTIONS)
+    from ..io.combinations import factors_of_cases
+    fac = factors_of_cases(im.cases)
+    for r in rows:
+        r["factors"] = fac.get(r["case"], "")
     return CheckReport(members, summary, rows, fields, imp_info, imp_mode, bool(passed), table)
 
 

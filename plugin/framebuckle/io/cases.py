@@ -44,15 +44,9 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
                          f"(or point fields '{study.field_name('displacement')}'[.<case>]); "
                          f"cell fields in the file: {', '.join(sorted(mesh.cell_data)) or 'none'}",
                          source=src)
-    wanted = study.get("analysis", "cases")
-    if wanted:
-        names = [c.name for c in cases]
-        for w in wanted:
-            if w not in names:
-                raise InputError(f"[analysis] cases lists '{w}', which is not a load case of the input; "
-                                 f"cases: {', '.join(names)}", source=study.source)
-        cases = [c for c in cases if c.name in wanted]
-    return cases
+    # combinations of the basic cases, [envelope] vertices, then [analysis] cases selects
+    from .combinations import with_combinations
+    return with_combinations(cases, study, frame)
 
 
 def time_labels(times) -> list[str]:

@@ -59,7 +59,8 @@ _SHAPE_KEYS = {"shape": (str,), **{k: _num for k in DIMENSION_KEYS}}
 SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
                  "cases": (ListOf((str,)),), "eigensolver": (str,), "mesh_check": (bool, str),
-                 "moment_terms": (bool, str), "warping": (str,), "compression": (str,)},
+                 "moment_terms": (bool, str), "warping": (str,), "compression": (str,),
+                 "combinations_file": (str,)},
     "warping": {"supports": (str,), "points": (_ids,)},
     "units": {"force": (str,), "length": (str,), "stress": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},
@@ -78,6 +79,10 @@ SCHEMA: dict[str, Any] = {
                "allow_all_tension": (bool,)},
     "imperfection": {"case": (str,), "mode": (int,), "amplitude": _num, "e0": _num, "curve": (str,),
                      "W": _num, "fy": _num, "gamma_M1": _num, "alpha_ult_k": _num, "member": (int,)},
+    # load combinations and the envelope over factor ranges (combinations.py, envelope.py):
+    # their keys are the input's case names, checked there
+    "combinations": ("FREE_TABLE",),
+    "envelope": ("FREE_TABLE",),
     "storeys": ("LIST_OF", {"name": (str,), "case": (str,), "P_story": _num, "P_e_story": _num,
                             "H": _num, "height": _num, "drift": _num, "P_mf": _num, "R_M": _num,
                             "level": _num}),
@@ -154,6 +159,10 @@ def _validate(data, schema, prefix, source):
             raise InputError(f"key '{prefix}' must be an array of tables ([[{prefix}]])", source=source)
         for i, item in enumerate(data):
             _validate(item, schema[1], f"{prefix}[{i}]", source)
+        return
+    if isinstance(schema, tuple) and schema and schema[0] == "FREE_TABLE":
+        if not isinstance(data, dict):
+            raise InputError(f"key '{prefix}' must be a table", source=source)
         return
     if isinstance(schema, tuple) and schema and schema[0] == "TABLE_OF":
         if not isinstance(data, dict):

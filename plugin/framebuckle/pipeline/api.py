@@ -20,6 +20,9 @@ from ..model.refine import subdivide as _subdivide
 from .results import CaseResult, Result, normalise_modes
 from ..solver.solve import buckling_modes, check_supported, factorize, find_constraints, scale_matrix
 from ..io.study import Study, load_study, study_from_dict
+from . import combosolve as _combos
+from .combosolve import FactoredGeometric, WarmStarts
+from .pencils import CasePencils
 from ..mechanics.twistlength import EQUIVALENT_NOTE
 
 DEFAULT_MODES = 4
@@ -162,8 +165,11 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         pcase = next(c for c in im.cases if c.name == pname)
         pre = _preload.prepare(pname, pfac, Kff, scale_matrix(geo(pcase)[free][:, free], dscale),
                                im.source)
+    gff = FactoredGeometric(geo, free, dscale)   # combinations: sum f_i Gff_i (framebuckle.pipeline.combosolve)
+    env, names = _combos.envelope_of(im, options.get("preload"))
+    warm = WarmStarts(names)
+    solved_F, solved_g, skipped, bounds = [], [], {}, {}
     cases = []
-    v0 = None
     # the Sturm counts of large models run in a second process beside the next case
     worker = verify.SturmWorker.maybe(len(free)) if options.get("parallel_sturm") else None
     try:
@@ -171,14 +177,31 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             t = time.perf_counter()
             stage(f"case {icase + 1}/{len(im.cases)} '{case.name}': eigensolution")
             Kc, fac_c = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (Kff, factor)
+            skip, bounds[case.name] = _combos.screened(case, solved_F, solved_g, names, env)
+            if skip:                            # certified above the limit by the hull bound
+                skipped[case.name] = bounds[case.name]
+                continue
+            fvec = _combos.point_of(case, names)
             axial = ref.fine_axial(case.axial)
             scale = np.abs(axial).max() if axial.size else 0.0
             if not (axial < -1e-12 * max(scale, 1e-300)).any() and not geo.has_moments(case):
-                cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6))))
+                cases.append(CaseResult(case.name, "no_compression", np.empty(0), np.empty((0, fine.n_nodes, 6)),
+                                        notes=list(case.extra.get("notes", []))))
+                _combos.record(solved_F, solved_g, fvec, None)
                 continue
-            Gff = scale_matrix(geo(case)[free][:, free], dscale)
+            Gff = gff(case)
+            v0 = warm.start(case, Kc, Gff, k + 1)
             try:
-                er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source, case=case.name)
+                try:
+                    er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source,
+                                        case=case.name)
+                except SolverError:
+                    if v0 is None or v0 is warm.last:
+                        raise
+                    # the Ritz start of the nearest combinations stalled the block solver: start
+                    # again from the last case's modes, as for plain cases
+                    er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=warm.last, source=im.source,
+                                        case=case.name)
                 try:
                     checks = verify.check_case(Kc, Gff, er, k, im.source, case.name,
                                                sturm=worker is None)
@@ -193,11 +216,12 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                     worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             except SolverError as exc:
                 raise _explained(exc, warnings) from None
+            _combos.record(solved_F, solved_g, fvec, er.load_factors[0] if len(er.load_factors) else None)
             if len(er.load_factors) == 0:
                 cases.append(CaseResult(case.name, "no_positive", np.empty(0), np.empty((0, fine.n_nodes, 6)),
-                                        method=er.method))
+                                        method=er.method, notes=list(case.extra.get("notes", []))))
                 continue
-            v0 = er.modes                       # warm start of the next case: neighbouring combinations
+            warm.add(case, er.modes)            # warm start of the next cases: nearest combinations
             full = np.zeros((asm.n, er.modes.shape[1]))
             full[free] = dscale[:, None] * er.modes       # the physical (unscaled) modes
             wmodes = full[fine.n_dofs:].T.copy() if asm.n > fine.n_dofs else None
@@ -254,51 +278,11 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     if options.get("preload"):
         settings["preload"] = {"case": options["preload"][0], "factor": options["preload"][1]}
     res = Result(im, ref, cons, cases, notes, settings, warnings,
-                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method, dscale))
+                 pencil=CasePencils(asm, geo, cons, Kff, factor, pre, im.cases, method, dscale, gff))
+    if env is not None:
+        res.envelope = _combos.envelope_summary(im.cases, cases, skipped, bounds, env, names)
     res.timings.update(timings)
     return res
-
-
-class CasePencils:
-    """The pencil ``(K, Kg)`` and factorization each case was solved with, for later stages.
-
-    Built from the very objects :func:`run` used (assembler, geometric-stiffness builder,
-    constraints, factorization, preload), so a stage that extends a solution works on
-    exactly the solve's matrices.  ``Kg`` of a case is assembled again on demand (the same
-    function on the same input) rather than kept for every case.
-    """
-
-    def __init__(self, asm, geo, cons, Kff, factor, pre, cases, method, scale=None):
-        self.asm, self.geo, self.cons, self.Kff, self.factor, self.pre = asm, geo, cons, Kff, factor, pre
-        self._cases = {c.name: c for c in cases}
-        self.method = method
-        #: the symmetric scaling d the pencil was solved in: ``Kff`` is D K D with D = diag(d)
-        self.scale = np.ones(len(cons.free)) if scale is None else scale
-
-    @property
-    def free(self) -> np.ndarray:
-        return self.cons.free
-
-    def __call__(self, name: str):
-        """``(factor, Kff, Gff)`` of case ``name`` on the free DOFs, as the eigensolver saw them."""
-        case = self._cases[name]
-        pre = self.pre
-        Kc, fac = (pre.Kff, pre.lu) if pre is not None and case.name != pre.name else (self.Kff, self.factor)
-        free = self.cons.free
-        return fac, Kc, scale_matrix(self.geo(case)[free][:, free], self.scale)
-
-    def solve_static(self, f_free: np.ndarray) -> np.ndarray:
-        """``K u = f`` on the free DOFs in physical units, through the solve's (scaled) factor:
-        u = D (D K D)^-1 D f."""
-        d = self.scale if f_free.ndim == 1 else self.scale[:, None]
-        return d * self.factor.solve(d * f_free)
-
-    def full_modes(self, vecs: np.ndarray) -> np.ndarray:
-        """Free-DOF vectors (n_free, j) -> modes (j, n_fine_nodes, 6), normalised as in the Result."""
-        fine = self.asm.frame
-        full = np.zeros((self.asm.n, vecs.shape[1]))
-        full[self.cons.free] = self.scale[:, None] * vecs          # scaled -> physical
-        return normalise_modes(full[:fine.n_dofs], fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max()))
 
 
 def _refuse_rigid(im, free):

@@ -53,9 +53,11 @@ class Result:
     settings: dict
     warnings: list = field(default_factory=list)   # sanity / conditioning warnings
     timings: dict = field(default_factory=dict)   # seconds per stage (read, assembly, ...)
-    # the matrices every case was solved with (api.CasePencils), for later stages that
+    # the matrices every case was solved with (pipeline.pencils.CasePencils), for later stages that
     # extend a solution (check: the upward search for a sway mode); None when not solved here
     pencil: "object" = field(default=None, repr=False, compare=False)
+    #: worst combination over [envelope] factor ranges (framebuckle.pipeline.combosolve.envelope_summary)
+    envelope: dict | None = None
 
     @property
     def model(self):
@@ -100,6 +102,7 @@ class Result:
                 "notes": list(c.notes) + ([c.message()] if c.message() else []),
                 "checks": dict(c.checks),
                 "mesh_check": None if c.mesh_check is None else dict(c.mesh_check),
+                **_factors_entry(self.input, c.name),
             } for c in self.cases],
             "model": {"nodes": int(self.input.frame.n_nodes), "elements": int(self.input.frame.n_elements),
                       "dofs": n_all, "free_dofs": int(len(self.constraints.free)),
@@ -115,7 +118,16 @@ class Result:
             "warnings": list(self.warnings),
             "cautions": list(CAUTIONS),
             **({"sections": self.input.extra["sections"]} if self.input.extra.get("sections") else {}),
+            **({"envelope": self.envelope} if self.envelope is not None else {}),
         }
+
+
+def _factors_entry(im, name) -> dict:
+    """``{"factors": {...}}`` for a combination (framebuckle.io.combinations), else nothing."""
+    for c in im.cases:
+        if c.name == name and c.extra.get("combination"):
+            return {"factors": {k: float(v) for k, v in c.extra["combination"]["factors"].items()}}
+    return {}
 
 
 def normalise_modes(vecs: np.ndarray, n_nodes: int, size: float = 1.0) -> np.ndarray:
