@@ -245,7 +245,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
                 notes.append("end moments recovered from the rotations are not used in the geometric "
                              "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "
-                             "include them (see the limits in the README)")
+                             "include them (see the limits under Forces from displacements in "
+                             "docs/user/mechanics.md)")
             if pre is not None:
                 notes.append(pre.note() if case.name != pre.name else
                              "this case is the constant preload; its load factor is for the case alone")
