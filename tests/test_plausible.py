@@ -184,6 +184,20 @@ def test_imperfection_inputs_out_of_range(portal_result, imp, match):
         run_check(portal_result, study_from_dict({"imperfection": imp}))
 
 
+def test_checks_fy_default_beside_timber_members_is_judged_against_the_median_E():
+    # a steel frame with timber members (the workshop sample's glulam purlins): S355's fy = 355 MPa
+    # against glulam's E = 11.5 GPa is fy / E = 0.031, above the rule's 0.02, yet no unit slip; the
+    # default is judged against the median E of the cells it fills (steel: E = 210 GPa, fy / E =
+    # 1.7e-3; values from memory, EN 1993-1-1 Table 3.1 and EN 14080 GL24h)
+    e = np.full(len(portal_arrays()[1]), E)
+    e[-1] = E * 1.15e10 / 2.1e11                        # one timber cell of eight
+    res = fb.solve(portal(E=e), modes=1, subdivide=2)
+    rep = run_check(res, study_from_dict({"checks": {"fy": 3.55e8}}))
+    assert rep.summary["cases"]
+    with pytest.raises(InputError, match="yield-modulus"):      # fy in MPa beside E in Pa
+        run_check(res, study_from_dict({"checks": {"fy": 355.0}}))
+
+
 def test_imperfection_in_range_is_accepted(portal_result):
     # IPE 300: W_el,y = 557 cm^3 (section tables, from memory); S355
     rep = run_check(portal_result, study_from_dict({"imperfection": {"W": 5.57e-4, "fy": 3.55e8}}))

@@ -80,6 +80,21 @@ class CheckReport:
         return 0 if self.passed else 1
 
 
+def _judge_fy(result, st: dict, src) -> None:
+    """Rule yield-modulus: a table's fy against its own cell's E; the ``[checks] fy`` default, one
+    value for cells of any material (steel frame with timber purlins), against the median E of the
+    cells it fills in, where a unit slip shows (a steel fy beside timber's E is no slip)."""
+    E = np.asarray(result.model.E, float)
+    own = result.input.extra.get("fy")
+    own = np.zeros(E.shape, bool) if own is None else np.isfinite(np.asarray(own, float))
+    if own.any():
+        fy_errors(np.asarray(result.input.extra["fy"], float)[own], E[own],
+                  "yield strength fy (section/material table)", src)
+    if st.get("fy") is not None and not own.all():
+        fy_errors(float(st["fy"]), float(np.median(E[~own])),
+                  "[checks] fy (default for cells without their own fy, against their median E)", src)
+
+
 def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
     """Everything the ``check`` command reports, from a solved :class:`~framebuckle.pipeline.results.Result`."""
     study = study or Study()
@@ -91,7 +106,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     im = result.input
     fy = _fy(result, st)
     if fy is not None:
-        fy_errors(fy, result.model.E, "yield strength fy (section/material table or [checks] fy)", study.source)
+        _judge_fy(result, st, study.source)
     members = group_members(result.model, im.extra.get("member"), im.source)
     ctx = {
         "result": result, "members": members, "fy": fy, "gate": gate,

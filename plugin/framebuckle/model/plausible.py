@@ -3,7 +3,8 @@ r"""Plausibility rules on input fields: each has a name, a threshold, and is an 
 Errors (impossible values) raise :class:`~framebuckle.errors.InputError` naming the
 field and the input cell; warnings (suspicious values) are returned as messages and
 end up in ``Result.warnings`` (and as ``possible reason:`` lines of a later
-mechanism error).  The README's error table lists every rule.
+mechanism error).  The *Plausibility rules* table of docs/user/input.md lists every
+rule, the error table of docs/user/troubleshooting.md every message.
 
 Section constants (``Iy``, ``Iz`` about the centroidal axes, ``J`` St Venant
 torsion constant, ``Ip`` polar moment about the shear centre, ``Iw`` warping

@@ -1,6 +1,6 @@
 """Section constants from shape and dimensions (pure functions, no I/O).
 
-Axes: the project's local axes (see README, *Input contract*): local z is the
+Axes: the project's local axes (see docs/user/input.md, *Input contract*): local z is the
 ``orientation`` vector's part perpendicular to the member, local y = z x x.
 Every shape here has its depth ``h`` along local **z** and its width ``b``
 along local **y**, so ``Iy`` (bending about y, stress ``My z / Iy``) is the

@@ -29,14 +29,46 @@ NAME = "buckle"
 
 
 class Buckle:
-    """Linear buckling analysis of a PyVista grid of line cells (``grid.buckle``)."""
+    """Linear buckling analysis of a PyVista grid of line cells (``grid.buckle``).
+
+    PyVista creates it on first use of ``grid.buckle``; not built by hand.
+
+    Parameters
+    ----------
+    dataset : pyvista.DataSet
+        The grid: line cells with the fields of the input contract (``axial_force[.<case>]``,
+        ``E``, ``G``, ``A``, ``Iy``, ``Iz``, ``J``, point field ``restraint``, ...).
+
+    Attributes
+    ----------
+    result : Result or None
+        The result of the last :meth:`solve`, ``None`` before it.
+    """
 
     def __init__(self, dataset):
         self._grid = dataset
         self.result = None
 
     def solve(self, study=None, *, modes: int | None = None, subdivide: int | None = None, **kw):
-        """Solve (see :func:`framebuckle.solve`); return the :class:`~framebuckle.pipeline.results.Result`."""
+        """Solve the grid's buckling problem, as :func:`framebuckle.solve` solves a file.
+
+        Parameters
+        ----------
+        study : str, pathlib.Path or dict, optional
+            A study file (TOML) or a dict of the same content.
+        modes : int, optional
+            Load factors per case (default 4).
+        subdivide : int, optional
+            Sub-elements per beam cell (default 8).
+        **kw
+            Further keyword arguments of :func:`framebuckle.solve` (``planar``, ``preload``,
+            ``mesh_check``, ``moment_terms``, ``warping``, ...).
+
+        Returns
+        -------
+        Result
+            The same result as :func:`framebuckle.solve`; also kept as :attr:`result`.
+        """
         from ..pipeline.api import solve
         mesh = to_meshio(self._grid)
         self.result = solve(mesh, study, modes=modes, subdivide=subdivide, **kw)
@@ -47,7 +79,7 @@ class Buckle:
 
     @property
     def load_factors(self) -> dict:
-        """Load factors of every case (solving with the defaults if not solved yet)."""
+        """Load factors of every case, ``{name: array}`` (solving with the defaults if not solved yet)."""
         return self._solved().load_factors
 
     @property
@@ -67,9 +99,22 @@ class Buckle:
         """A copy of the grid with its points moved by ``scale`` x mode ``mode`` (1-based).
 
         The mode is normalised to a largest translation of 1; the default scale
-        draws it at 10 % of the model size.  The copy carries the point fields
-        ``mode`` (translations) and ``mode_rotation`` and the field data
-        ``load_factor`` and ``case``.
+        draws it at 10 % of the model size.
+
+        Parameters
+        ----------
+        mode : int, default 1
+            The mode, 1-based (1 = alpha_cr).
+        case : str, optional
+            The load case (default: the first).
+        scale : float, optional
+            Largest displacement drawn, in model length units (default 10 % of the model size).
+
+        Returns
+        -------
+        pyvista.DataSet
+            The moved copy with the point fields ``mode`` (translations) and ``mode_rotation``
+            and the field data ``load_factor`` and ``case``.
         """
         c, m = self._mode(case, mode)
         n = self._grid.n_points
@@ -84,7 +129,22 @@ class Buckle:
         return out
 
     def curve(self, mode: int = 1, case=None, scale: float | None = None):
-        """PolyData of the buckled shape along the cubic Hermite curve of every element, with ``|u|``."""
+        """The buckled shape along the cubic Hermite curve of every element.
+
+        Parameters
+        ----------
+        mode : int, default 1
+            The mode, 1-based (1 = alpha_cr).
+        case : str, optional
+            The load case (default: the first).
+        scale : float, optional
+            Largest displacement drawn, in model length units (default 10 % of the model size).
+
+        Returns
+        -------
+        pyvista.PolyData
+            Smooth curves of the deformed members with the point field ``|u|``.
+        """
         from .render import shape_meshes
         from .shapes import from_result
         c, _ = self._mode(case, mode)

@@ -24,6 +24,7 @@ from . import combosolve as _combos
 from .combosolve import FactoredGeometric, WarmStarts
 from .pencils import CasePencils
 from ..mechanics.twistlength import EQUIVALENT_NOTE
+from .modenotes import _interior_cell, _torsion_notes
 
 DEFAULT_MODES = 4
 DEFAULT_SUBDIVIDE = 8
@@ -31,8 +32,6 @@ DEFAULT_SUBDIVIDE = 8
 #: (about 3 GB of matrices at 48 DOFs per point); beyond, the run is refused before it starts
 MAX_SUBDIVIDE = 1000
 MAX_FINE_POINTS = 5_000_000
-#: share of a mode's geometric work done by the twist term above which it is a torsional mode
-TORSION_SHARE = 0.8
 
 
 def _as_study(study) -> Study:
@@ -51,31 +50,70 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
           sturm_worker: bool = False) -> Result:
     """Linear buckling analysis of a line-element mesh.
 
+    Reads the mesh and the axial forces of every load case, builds K and Kg, solves
+    ``(K + lambda Kg) phi = 0`` for the lowest positive load factors of each case and checks
+    every eigensolution.  Nothing is written: :meth:`Result.summary` gives the JSON summary.
+
     Parameters
     ----------
-    inp : path, ``meshio.Mesh`` or :class:`~framebuckle.io.read.InputModel`
-    study : path of a TOML study file, a dict of the same content, or a Study
-    modes : number of load factors per case (default 4)
-    subdivide : sub-elements per beam cell (default 8)
-    planar : ``"auto"`` (default), ``True`` or ``False``
-    method : eigensolver: ``"auto"``, ``"dense"``, ``"arpack"`` or ``"block"``
-    preload : name of a load case held constant while the others are scaled, or
-        ``{"case": name, "factor": f}`` (study: ``[preload]``); see :mod:`framebuckle.solver.preload`
-    mesh_check : ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
-        sub-division and extrapolate (study: ``[analysis] mesh_check``); see :mod:`framebuckle.solver.adequacy`
-    moment_terms : ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
+    inp : str, pathlib.Path or meshio.Mesh
+        The input mesh (VTU, XDMF, Gmsh MSH or any format meshio reads), or a mesh in memory
+        (an input model already read is accepted too).
+    study : str, pathlib.Path or dict, optional
+        A TOML study file, or a dict of the same content.
+    modes : int, optional
+        Number of load factors per case (default 4; study ``[analysis] modes``).
+    subdivide : int, optional
+        Sub-elements per beam cell (default 8; study ``[analysis] subdivide``).
+    planar : bool or {"auto"}, optional
+        ``"auto"`` (default), ``True`` or ``False``.
+    method : {"auto", "dense", "arpack", "block"}, optional
+        The eigensolver (default ``"auto"``).
+    progress : callable, optional
+        Called with each case's name after the case is solved; if it has a ``stage``
+        attribute, ``progress.stage(text)`` is called before each stage.
+    preload : str or dict, optional
+        Name of a load case held constant while the others are scaled, or
+        ``{"case": name, "factor": f}`` (study: ``[preload]``).
+    mesh_check : bool or {"auto"}, optional
+        ``"auto"`` (default), ``True`` or ``False``: also solve at twice the
+        sub-division and extrapolate (study: ``[analysis] mesh_check``).
+    moment_terms : bool or {"auto"}, optional
+        ``"auto"`` (default: end-moment terms of the geometric stiffness for moments
         given as cell fields, not for moments recovered from rotations), ``True`` (both) or
-        ``False`` (study: ``[analysis] moment_terms``); see :mod:`framebuckle.mechanics.moments`
-    warping : ``"auto"`` (default: the equivalent torsion constant over the length between
+        ``False`` (study: ``[analysis] moment_terms``).
+    warping : {"auto", "equivalent", "dof"}, optional
+        ``"auto"`` (default: the equivalent torsion constant over the length between
         torsional restraints, the warping DOF where that is not well defined or warping is
         restrained), ``"equivalent"`` or ``"dof"``: a warping DOF for cells with ``Iw``
-        (study: ``[analysis] warping``, ``[warping]``); see :mod:`framebuckle.solver.warping` and
-        :mod:`framebuckle.mechanics.twistlength`
-    sturm_worker : run the Sturm counts of large models in a second process beside the next
-        case (:class:`framebuckle.solver.verify.SturmWorker`; the command line does).  Off by default:
+        (study: ``[analysis] warping``, ``[warping]``).
+    sturm_worker : bool, default False
+        Run the Sturm counts of large models in a second process beside the next
+        case (the command line does).  Off by default:
         the process is started with multiprocessing's "spawn", which imports the calling
         script again, so a script that sets it must guard its entry point with
         ``if __name__ == "__main__":``.
+
+    Returns
+    -------
+    Result
+        Load factors and modes of every case, the model, notes, warnings and settings.
+
+    Raises
+    ------
+    InputError
+        The input or the study file is unusable (the message names the file, field, cell or point).
+    ModelError
+        The model is not a usable structure (a mechanism, an unsupported part).
+    SolverError
+        An eigensolution failed its checks.
+
+    Examples
+    --------
+    >>> import framebuckle
+    >>> res = framebuckle.solve("sample_meshes/workshop_portal.vtu", modes=2)  # doctest: +SKIP
+    >>> round(res.case("gravity").alpha_cr, 2)                                  # doctest: +SKIP
+    10.71
     """
     st = _as_study(study)
     k = int(modes or st.get("analysis", "modes", default=DEFAULT_MODES))
@@ -230,7 +268,8 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
                 notes.append("end moments recovered from the rotations are not used in the geometric "
                              "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "
-                             "include them (see the limits in the README)")
+                             "include them (see the limits under Forces from displacements in "
+                             "docs/user/mechanics.md)")
             if pre is not None:
                 notes.append(pre.note() if case.name != pre.name else
                              "this case is the constant preload; its load factor is for the case alone")
@@ -374,39 +413,3 @@ class _CaseGeometric:
                 return Kg + self.asm.moment_matrix(Mf)
             Kg = Kg + self.asm.matrix(moment_geometric_global(fine, Mf, self._local))
         return Kg
-
-
-def _interior_cell(ref, im):
-    """Input cell id of every fine node (input points map to -1)."""
-    fine = ref.frame
-    cell = np.full(fine.n_nodes, -1, np.int64)
-    e = fine.elements
-    cell[e[:, 0]] = fine.parent
-    cell[e[:, 1]] = fine.parent
-    cell[: im.frame.n_nodes] = -1
-    return cell
-
-
-def _torsion_notes(asm, fine, axial, full, lam, im) -> list:
-    """Flag modes that are twist of single members (spurious for open sections without Iw)."""
-    if im.extra.get("Iw") is not None:
-        return []
-    from ..mechanics.elements import element_dofs
-    dofs = element_dofs(fine)
-    notes = []
-    Tt = asm.T
-    for i in range(full.shape[1]):
-        u = full[:, i][dofs]
-        ul = np.einsum("eij,ej->ei", Tt, u)
-        total = axial * np.einsum("ei,eij,ej->e", u, asm.Ge, u)
-        L = fine.lengths()
-        tw = np.where(fine.bar, 0.0, axial * fine.Ip / fine.A / L * (ul[:, 9] - ul[:, 3]) ** 2)
-        tot = total.sum()
-        if tot == 0 or tw.sum() / tot < TORSION_SHARE:
-            continue
-        per_cell = np.bincount(fine.parent, weights=tw, minlength=fine.parent.max() + 1)
-        cells = np.flatnonzero(np.abs(per_cell) > 0.1 * abs(tw.sum()))
-        notes.append(f"mode {i + 1} (load factor {lam[i]:.4g}) is a twist of single member(s) "
-                     f"(cell(s) {', '.join(str(c) for c in cells[:10])}) without warping stiffness; "
-                     f"for open sections (I, channel) give Iw, otherwise this mode is spurious")
-    return notes

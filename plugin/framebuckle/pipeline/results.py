@@ -18,6 +18,40 @@ CAUTIONS = (
 
 @dataclass
 class CaseResult:
+    """Load factors and modes of one load case (an item of :attr:`Result.cases`).
+
+    Made by :func:`framebuckle.solve`; not built by hand.
+
+    Parameters
+    ----------
+    name : str
+        The load case's name (``default`` for a file with one unnamed case).
+    status : str
+        ``"ok"``, ``"no_compression"`` (no member is in compression) or ``"no_positive"``
+        (no positive load factor: the compressed members do not buckle under this case).
+    load_factors : numpy.ndarray
+        Shape ``(k,)``, ascending; the first is alpha_cr.
+    modes : numpy.ndarray
+        Shape ``(k, n_fine_points, 6)``: translations and rotations at the points of the refined
+        model (input points first), normalised to a largest translation of 1.
+    residuals : numpy.ndarray
+        ``||(K + lambda Kg) phi|| / ||K phi||`` of every mode.
+    cluster_continues : bool
+        The load factor after the last requested one equals it: more copies follow.
+    method : str
+        The eigensolver that produced the modes.
+    notes : list of str
+        Notes on this case (for the summary and the terminal).
+    checks : dict
+        The checks of the eigensolution: largest residual, K-orthogonality, Sturm count.
+    mesh_check : dict or None
+        The mesh adequacy check (alpha_cr at twice the sub-division, Richardson extrapolation).
+    moment_terms : bool
+        The end-moment terms were in the geometric stiffness.
+    warping_modes : numpy.ndarray or None
+        Shape ``(k, n_warping_dofs)``: the modes' warping DOFs (same scale), when solved with them.
+    """
+
     name: str
     status: str                      # "ok", "no_compression", "no_positive"
     load_factors: np.ndarray         # (k,) ascending
@@ -33,9 +67,17 @@ class CaseResult:
 
     @property
     def alpha_cr(self) -> float | None:
+        """The lowest load factor (``None`` when the case has none)."""
         return float(self.load_factors[0]) if len(self.load_factors) else None
 
     def message(self) -> str:
+        """Why the case has no load factor.
+
+        Returns
+        -------
+        str
+            The explanation for the status ``no_compression`` or ``no_positive``; empty for ``ok``.
+        """
         if self.status == "no_compression":
             return "no member is in compression: no compressive instability"
         if self.status == "no_positive":
@@ -45,6 +87,37 @@ class CaseResult:
 
 @dataclass
 class Result:
+    """The result of :func:`framebuckle.solve`: every load case, the model and the settings.
+
+    Made by :func:`framebuckle.solve` (or ``grid.buckle.solve``); not built by hand.
+
+    Parameters
+    ----------
+    input : object
+        The input model as read (frame, load cases, point sets, units, source file).
+    refined : object
+        The sub-divided model the matrices were built on.
+    constraints : object
+        Restrained and free DOFs (planar analysis, automatically restrained rotations).
+    cases : list of CaseResult
+        One entry per load case, in the order of the input.
+    notes : list of str
+        Notes on the whole run.
+    settings : dict
+        The settings used (modes, sub-division, eigensolver, ...).
+    warnings : list of str
+        Plausibility and conditioning warnings.
+    timings : dict
+        Seconds per stage (read, assembly, factorization, cases, ...).
+    pencil : object
+        The matrices every case was solved with, for later stages that extend a solution;
+        ``None`` when not solved here.
+    envelope : dict or None
+        The worst combination over the ``[envelope]`` factor ranges (governing vertex, its
+        factors and alpha_cr, the runner-up, certified bounds of listed combinations); ``None``
+        without ``[envelope]``.
+    """
+
     input: "object"                  # read.InputModel
     refined: "object"                # refine.Refined
     constraints: "object"            # solve.Constraints
@@ -61,13 +134,32 @@ class Result:
 
     @property
     def model(self):
+        """The input model's frame (points and cells as read)."""
         return self.input.frame
 
     @property
     def fine(self):
+        """The refined frame (input points first, then the sub-division points)."""
         return self.refined.frame
 
     def case(self, name_or_index) -> CaseResult:
+        """One load case by name or position.
+
+        Parameters
+        ----------
+        name_or_index : str or int
+            The case's name, or its position in :attr:`cases`.
+
+        Returns
+        -------
+        CaseResult
+            The load case.
+
+        Raises
+        ------
+        InputError
+            When no case has that name; the message lists the cases.
+        """
         if isinstance(name_or_index, int):
             return self.cases[name_or_index]
         for c in self.cases:
@@ -79,14 +171,36 @@ class Result:
 
     @property
     def load_factors(self) -> dict:
+        """Load factors of every case, ``{name: array}`` (copies)."""
         return {c.name: c.load_factors.copy() for c in self.cases}
 
     def input_mode(self, case, k: int) -> np.ndarray:
-        """Mode ``k`` (0-based) of ``case`` at the input points, shape (n_points, 6)."""
+        """Mode ``k`` (0-based) of ``case`` at the input points.
+
+        Parameters
+        ----------
+        case : str or int
+            The case's name or position.
+        k : int
+            The mode, 0-based (0 = alpha_cr).
+
+        Returns
+        -------
+        numpy.ndarray
+            Shape ``(n_points, 6)``: translations and rotations at the input points.
+        """
         c = self.case(case)
         return c.modes[k][: self.input.frame.n_nodes]
 
     def summary(self) -> dict:
+        """The JSON summary (``<stem>.summary.json`` of ``framebuckle solve``) as a dict.
+
+        Returns
+        -------
+        dict
+            ``cases`` (per case: name, status, load factors, notes, checks, mesh check), ``model``,
+            ``settings``, ``units``, ``notes``, ``warnings`` and ``cautions``.
+        """
         f = self.fine
         n_all = int(len(self.constraints.fixed))   # nodal DOFs plus appended warping DOFs
         return {
