@@ -343,6 +343,12 @@ def out_is_file(t):
     return [m, "--out", f], ["results", "output folder"], [m, f]
 
 
+def study_unknown_solver(t):
+    m = _vtu(t, portal())
+    s = _study(t, '[analysis]\nsolver = "fastest"\n')
+    return [m, "--study", s], ["study.toml", "[analysis] solver", "auto", "fastest"], [m, s]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -353,7 +359,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_not_toml, study_not_found, study_missing_set, study_missing_section_id,
              study_unknown_case, study_missing_key_field, out_parent_is_file, out_is_file,
              checks_member_share_out_of_range,
-             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign]
+             study_unknown_unit, study_stress_unit_alone, study_bad_compression_sign,
+             study_unknown_solver]
 
 
 def test_catalogue_is_large_enough():

@@ -10,6 +10,7 @@ import numpy as np
 
 from . import adequacy as _adequacy
 from . import sanity, verify
+from . import pardiso as _pardiso
 from . import preload as _preload
 from . import warping as _warping
 from .assemble import Assembler
@@ -93,7 +94,10 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
     wmode = _warping.parse(warping, st, im.source)
     if im.extra.get("Iw") is not None:
         options.update(_warping.choose(wmode, im, st))
-    res = run(im, k, m, pl, meth, progress=progress, options=options)
+    # sparse direct backend (framebuckle.pardiso): [analysis] solver, else FRAMEBUCKLE_SOLVER / auto
+    solver = st.get("analysis", "solver", default=None)
+    with _pardiso.use(None if solver is None else _pardiso.check_choice(solver, st.source)):
+        res = run(im, k, m, pl, meth, progress=progress, options=options)
     res.timings["read"] = t_read
     return res
 
@@ -134,6 +138,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell, scale=True)
         dscale = factor.scale
         timings["factorization"] = time.perf_counter() - t
+        timings["backend"] = factor.backend
     except ModelError as exc:
         raise _explained(exc, warnings) from None
     timings["cases"] = []
