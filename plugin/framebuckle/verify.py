@@ -241,7 +241,9 @@ class SturmWorker:
         import multiprocessing as mp
         from concurrent.futures import ProcessPoolExecutor
         # "spawn": a fresh interpreter, safe beside BLAS threads (fork is not)
-        self._pool = ProcessPoolExecutor(max_workers=1, mp_context=mp.get_context("spawn"))
+        from .pardiso import one_thread      # MKL (if it is the backend) on one thread there
+        self._pool = ProcessPoolExecutor(max_workers=1, mp_context=mp.get_context("spawn"),
+                                         initializer=one_thread)
         self._pending = []
 
     @classmethod
