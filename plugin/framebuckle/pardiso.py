@@ -13,8 +13,8 @@ folder, ``MKL_RT`` or the system's library path) and calls ``pardiso`` (LP64, 32
   Computations, 4th ed., sec. 8.1).  The count is trusted only when no pivot was perturbed
   (``iparm[13] == 0``) and the two add up to ``n``; otherwise :func:`inertia` returns None and
   the caller counts with scipy;
-* no iterative refinement (``iparm[7] = 0``), AMD (``iparm[1] = 0``) or, for large matrices,
-  METIS (2) ordering (:data:`METIS_FROM`),
+* no iterative refinement (``iparm[7] = 0``), AMD ordering (``iparm[1] = 0``; METIS, 2, from
+  :data:`METIS_FROM` rows),
   all right-hand sides of a block in one call.
 
 Which backend is used: :func:`backend` (``"scipy"``, ``"mkl"`` or ``"auto"``, the default:
@@ -38,10 +38,11 @@ import scipy.sparse as sp
 
 ENV = "FRAMEBUCKLE_SOLVER"
 CHOICES = ("auto", "scipy", "mkl")
-#: fill-in reducing ordering (iparm[1]): AMD (0) below this many rows, METIS (2) from it. At 9e4
-#: free DOFs of a frame AMD factored in 0.24-0.26 s against METIS's 0.48 s (and less fill);
-#: METIS needs about 30 % less memory at 1e6
-METIS_FROM = 300_000
+#: fill-in reducing ordering (iparm[1]) from this many rows on: METIS (2); below, AMD (0).  On the
+#: benchmark frames AMD gave less fill and a faster factorization at every size measured (9e4
+#: free DOFs: 1.22 M against 1.43 M factor entries, 0.24 s against 0.48 s; 9.6e5: 41.3 M against
+#: 43.4 M, 19 s against 34 s on a busy machine), so METIS is not used by default
+METIS_FROM = 2**31
 
 _lib = None
 _lib_error = None
