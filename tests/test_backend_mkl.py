@@ -176,3 +176,27 @@ def test_factor_reports_backend():
     with pardiso.use("mkl"):                            # not positive definite: SuperLU decides
         f = Factor(sp.diags([4.0, -5.0, 6.0]).tocsc())
         assert f.backend == "scipy"
+
+
+def test_singular_matrix_count_not_trusted():
+    # the Laplacian of a path graph is singular (L @ ones = 0, by hand): PARDISO perturbs a
+    # pivot, so its inertia is not used and the count falls back to scipy's path
+    from framebuckle.verify import negative_count
+    n = 400
+    L = sp.diags([-np.ones(n - 1), np.r_[1.0, 2.0 * np.ones(n - 2), 1.0], -np.ones(n - 1)],
+                 [-1, 0, 1]).tocsr()
+    assert np.abs(L @ np.ones(n)).max() == 0.0
+    assert pardiso.inertia(L) is None
+    assert pardiso.positive_definite_factor(L) is None
+    with pardiso.use("mkl"):
+        _, how = negative_count(L)
+    assert "MKL" not in how
+
+
+def test_explicit_mkl_without_library_is_an_error(monkeypatch):
+    monkeypatch.setattr(pardiso, "available", lambda: False)
+    with pytest.raises(InputError, match="fast"):
+        pardiso.check_choice("mkl", "study.toml")
+    assert pardiso.check_choice("auto") == "auto"           # auto falls back to scipy
+    with pardiso.use("auto"):
+        assert pardiso.backend() == "scipy"
