@@ -3,10 +3,12 @@
 Imports numpy, scipy and meshio, reads the file with meshio, builds the
 sub-divided model, assembles K with vectorised numpy (the package's own
 vectorised element and assembly code) and factors the free-free K once with a
-direct solver ("splu": scipy SuperLU as the tool uses it; "pardiso": MKL
-PARDISO through pypardiso, if installed).  No eigensolution, no output.
+direct solver ("splu": scipy SuperLU as the tool uses it; "mkl": MKL PARDISO
+through the package's own binding framebuckle.solver.pardiso, Cholesky of the upper
+triangle, METIS, as the tool's "mkl" backend uses it; "pardiso": MKL PARDISO through
+pypardiso, if installed).  No eigensolution, no output.
 
-Usage: python benchmarks/floor.py FILE [splu|pardiso]
+Usage: python benchmarks/floor.py FILE [splu|mkl|pardiso]
 """
 
 import sys
@@ -40,7 +42,10 @@ def main(path, solver="splu"):
     Kff = K[free][:, free]
     t["assembly"] = time.perf_counter() - s
     s = time.perf_counter()
-    if solver == "pardiso":
+    if solver == "mkl":
+        from framebuckle.solver.pardiso import PardisoFactor
+        PardisoFactor(Kff, 2)
+    elif solver == "pardiso":
         import pypardiso
         ps = pypardiso.PyPardisoSolver(mtype=2)
         ps.factorize(sp.triu(Kff, format="csr"))

@@ -4,7 +4,10 @@ For each size (DOFs after the default sub-division) it writes a building frame
 (``building.py``), then runs, each as its own process and one at a time:
 
 * the tool: ``python -m framebuckle solve FILE --modes 10 --timings`` (2 load cases);
-* the floor (``floor.py``) with scipy SuperLU, and with PARDISO when pypardiso is installed;
+* with ``--backends scipy,mkl`` the tool once per sparse backend (``FRAMEBUCKLE_SOLVER``;
+  records ``tool`` for the first, ``tool_<name>`` for the others);
+* the floor (``floor.py``) with scipy SuperLU, with MKL PARDISO (the package's binding) when
+  its library loads, and with pypardiso when installed;
 * the hand-written baseline (``baseline.py``) when ``--baseline`` is given.
 
 Wall time and peak resident memory of each process (``os.wait4``) are appended as
@@ -82,8 +85,9 @@ class _TreePeak(threading.Thread):
                 pass
 
 
-def measure(cmd, timeout=None):
-    env = dict(os.environ, PYTHONPATH=str(PLUGIN) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+def measure(cmd, timeout=None, env=None):
+    env = dict(os.environ, **(env or {}),
+               PYTHONPATH=str(PLUGIN) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     t = time.perf_counter()
     load0 = os.getloadavg()[0]
     with tempfile.TemporaryFile("w+") as out:
@@ -112,6 +116,7 @@ def main():
     ap.add_argument("--baseline-limit", type=float, default=1200.0)
     ap.add_argument("--data", default=str(HERE / "_data"))
     ap.add_argument("--no-pardiso", action="store_true")
+    ap.add_argument("--backends", default="auto", help="comma-separated: scipy, mkl, auto")
     args = ap.parse_args()
     import building
     data = Path(args.data)
@@ -123,18 +128,27 @@ def main():
         if not f.exists():
             building.write(size, str(f))
         rec = {"size": size, "file": str(f), "machine": info, "date": time.strftime("%Y-%m-%d %H:%M")}
-        with tempfile.TemporaryDirectory() as out:
-            rec["tool"] = measure([sys.executable, "-m", "framebuckle", "solve", str(f), "--modes", "10",
-                                   "--out", out, "--force", "--timings"])
-        m = re.search(r"timings \[s\]: read ([\d.]+), assembly ([\d.]+), factorization ([\d.]+), "
-                      r"cases \[([\d., ]*)\], write ([\d.]+)", rec["tool"]["output"])
-        if m:
-            rec["stages"] = {"read": float(m[1]), "assembly": float(m[2]), "factorization": float(m[3]),
-                             "cases": [float(x) for x in m[4].split(",") if x.strip()], "write": float(m[5])}
+        for ib, bk in enumerate(args.backends.split(",")):
+            key = "tool" if ib == 0 else f"tool_{bk}"
+            with tempfile.TemporaryDirectory() as out:
+                rec[key] = measure([sys.executable, "-m", "framebuckle", "solve", str(f), "--modes", "10",
+                                    "--out", out, "--force", "--timings"], env={"FRAMEBUCKLE_SOLVER": bk})
+            rec[key]["backend"] = bk
+            m = re.search(r"timings \[s\]: read ([\d.]+), assembly ([\d.]+), factorization ([\d.]+) "
+                          r"\((\w+)\), cases \[([\d., ]*)\], write ([\d.]+)", rec[key]["output"])
+            if m:
+                rec[key]["stages"] = {"read": float(m[1]), "assembly": float(m[2]),
+                                      "factorization": float(m[3]), "backend": m[4],
+                                      "cases": [float(x) for x in m[5].split(",") if x.strip()],
+                                      "write": float(m[6])}
+        rec["stages"] = rec["tool"].get("stages", {})
         d = re.search(r"(\d+) DOFs after sub-division \((\d+) free\)", rec["tool"]["output"])
         if d:
             rec["dofs"], rec["free"] = int(d[1]), int(d[2])
         rec["floor_splu"] = measure([sys.executable, str(HERE / "floor.py"), str(f), "splu"])
+        from framebuckle.solver import pardiso as _pd
+        if _pd.available():
+            rec["floor_mkl"] = measure([sys.executable, str(HERE / "floor.py"), str(f), "mkl"])
         try:
             import pypardiso  # noqa: F401
             have_pardiso = not args.no_pardiso
@@ -147,11 +161,14 @@ def main():
                                        str(args.baseline_limit)])
         with open(res_file, "a") as fh:
             fh.write(json.dumps(rec) + "\n")
-        floor = min(rec[k]["wall_s"] for k in ("floor_splu", "floor_pardiso") if k in rec)
+        floor = min(rec[k]["wall_s"] for k in ("floor_splu", "floor_mkl", "floor_pardiso") if k in rec)
         st = rec.get("stages", {})
         print(f"{size:.0e}: dofs {rec.get('dofs')} tool {rec['tool']['wall_s']:.1f} s "
               f"({rec['tool']['peak_MiB']:.0f} MiB) floor {floor:.1f} s -> {rec['tool']['wall_s'] / floor:.2f} x; "
               f"stages {st}", flush=True)
+        for key in [k for k in rec if k.startswith("tool_")]:
+            print(f"    {key}: {rec[key]['wall_s']:.1f} s ({rec[key]['peak_MiB']:.0f} MiB) -> "
+                  f"{rec[key]['wall_s'] / floor:.2f} x floor; stages {rec[key].get('stages')}", flush=True)
 
 
 if __name__ == "__main__":

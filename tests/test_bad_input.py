@@ -532,6 +532,12 @@ def combination_without_compression(t):
     return [m, "--study", s], ["study.toml", "UPLIFT", "no member in compression", "signs"], [m, s]
 
 
+def study_unknown_solver(t):
+    m = _vtu(t, portal())
+    s = _study(t, '[analysis]\nsolver = "fastest"\n')
+    return [m, "--study", s], ["study.toml", "[analysis] solver", "auto", "fastest"], [m, s]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -551,8 +557,8 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_support_point_huge, study_support_points_nested, study_box_string,
              study_release_cells_string, study_warping_points_string, absurd_force, absurd_coordinates,
              absurd_subdivision, polyline_cells,
-
-             combination_unknown_case, combination_factor_not_a_number, combination_without_compression]
+             combination_unknown_case, combination_factor_not_a_number, combination_without_compression,
+             study_unknown_solver]
 
 
 def test_catalogue_is_large_enough():

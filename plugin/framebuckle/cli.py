@@ -244,7 +244,7 @@ def cmd_solve(args) -> int:
         tm = result.timings
         cases = ", ".join(f"{x:.3f}" for x in tm.get("cases", []))
         print(f"timings [s]: read {tm.get('read', 0):.3f}, assembly {tm.get('assembly', 0):.3f}, "
-              f"factorization {tm.get('factorization', 0):.3f}, cases [{cases}], "
+              f"factorization {tm.get('factorization', 0):.3f} ({tm.get('backend', 'scipy')}), cases [{cases}], "
               f"write {tm.get('write', 0):.3f}"
               + (f", waiting for the parallel Sturm counts {tm['sturm_wait']:.3f}" if "sturm_wait" in tm else ""))
     return 0

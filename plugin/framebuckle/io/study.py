@@ -60,7 +60,7 @@ SCHEMA: dict[str, Any] = {
     "analysis": {"modes": (int,), "subdivide": (int,), "planar": (bool, str),
                  "cases": (ListOf((str,)),), "eigensolver": (str,), "mesh_check": (bool, str),
                  "moment_terms": (bool, str), "warping": (str,), "compression": (str,),
-                 "combinations_file": (str,)},
+                 "combinations_file": (str,), "solver": (str,)},
     "warping": {"supports": (str,), "points": (_ids,)},
     "units": {"force": (str,), "length": (str,), "stress": (str,)},
     "fields": {k: (str,) for k in FIELD_DEFAULTS},

@@ -17,6 +17,7 @@ from ..mechanics.assemble import Assembler
 from ..errors import InputError, ModelError, SolverError
 from ..io.read import InputModel, read_input
 from ..model.refine import subdivide as _subdivide
+from ..solver import pardiso as _pardiso
 from .results import CaseResult, Result, normalise_modes
 from ..solver.solve import buckling_modes, check_supported, factorize, find_constraints, scale_matrix
 from ..io.study import Study, load_study, study_from_dict
@@ -147,7 +148,10 @@ def solve(inp, study=None, *, modes: int | None = None, subdivide: int | None = 
         raise InputError(f"the sub-division {m} per beam cell would give {n_fine} points (limits: "
                          f"{MAX_SUBDIVIDE} per cell, {MAX_FINE_POINTS} points in all); choose a smaller "
                          f"sub-division", source=st.source)
-    res = run(im, k, m, pl, meth, progress=progress, options=options)
+    # sparse direct backend (framebuckle.solver.pardiso): [analysis] solver, else FRAMEBUCKLE_SOLVER / auto
+    solver = st.get("analysis", "solver", default=None)
+    with _pardiso.use(None if solver is None else _pardiso.check_choice(solver, st.source)):
+        res = run(im, k, m, pl, meth, progress=progress, options=options)
     res.timings["read"] = t_read
     return res
 
@@ -191,6 +195,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
         factor, Kff = factorize(K, cons, fine, n_in, im.source, coarse_cell, scale=True)
         dscale = factor.scale
         timings["factorization"] = time.perf_counter() - t
+        timings["backend"] = factor.backend
     except ModelError as exc:
         raise _explained(exc, warnings) from None
     timings["cases"] = []

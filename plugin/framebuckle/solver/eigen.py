@@ -142,7 +142,8 @@ def block_krylov_schur(solve, K, mG, nev: int, *, block: int | None = None,
         from threadpoolctl import threadpool_limits
     except ImportError:                          # optional: only a speed matter
         return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept)
-    with threadpool_limits(limits=1, user_api="blas"):
+    from .pardiso import blas_limits         # MKL's own threads stay when it is the backend
+    with threadpool_limits(**blas_limits()):
         return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept)
 
 
@@ -281,7 +282,8 @@ def rough_lowest(solve, K, mG, X0=None, block: int = 4, steps: int = 8, nvec: in
         from threadpoolctl import threadpool_limits
     except ImportError:                          # optional: only a speed matter
         return _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed)
-    with threadpool_limits(limits=1, user_api="blas"):
+    from .pardiso import blas_limits         # MKL's own threads stay when it is the backend
+    with threadpool_limits(**blas_limits()):
         return _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed)
 
 
@@ -320,8 +322,15 @@ def factor_shift(K, G, sigma: float, tries: int = 8, lower: float = 0.7):
     """
     import scipy.sparse as sp
     import scipy.sparse.linalg as spla
+    from . import pardiso                     # optional backend (extra "fast")
     for i in range(tries):
         A = sp.csc_matrix(K + sigma * G)
+        if pardiso.active():                 # Cholesky succeeds only on a positive definite A
+            pf = pardiso.positive_definite_factor(A)
+            if pf is not None:
+                return Shift(float(sigma), A, pf, i + 1, np.nan)
+            sigma *= lower
+            continue
         try:
             lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                            options={"SymmetricMode": True})

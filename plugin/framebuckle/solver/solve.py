@@ -161,17 +161,29 @@ def relative_residuals(Kff, Gff, lam, V) -> np.ndarray:
 
 
 class Factor:
-    """Sparse LU of the (symmetric positive definite) free-free stiffness, factored once.
+    """Sparse factorization of the (symmetric positive definite) free-free stiffness, factored once.
 
     ``scale``: set by :func:`factorize` when the matrix factored is the scaled
     :math:`D K D`; physical DOFs are ``scale * x`` of the scaled ones (None: not scaled).
+    ``backend``: ``"scipy"`` (SuperLU) or ``"mkl"`` (PARDISO Cholesky, :mod:`framebuckle.solver.pardiso`,
+    used when that backend is active and the factorization proves the matrix positive definite
+    with every pivot above PIVOT_TOL of its diagonal; otherwise SuperLU factors it, whose pivots
+    name the DOFs of a mechanism).
     """
 
     scale = None
+    backend = "scipy"
 
-    def __init__(self, Kff: sp.spmatrix):
+    def __init__(self, Kff: sp.spmatrix, backend: str | None = None):
         Kff = sp.csc_matrix(Kff)
         self.n = Kff.shape[0]
+        from . import pardiso                 # optional backend (extra "fast")
+        if (backend or pardiso.backend()) == "mkl" and pardiso.available():
+            self.lu = pardiso.positive_definite_factor(Kff, PIVOT_TOL)
+            if self.lu is not None:
+                self.backend = "mkl"
+                self._diag = np.abs(Kff.diagonal())
+                return
         self.lu = spla.splu(Kff, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
                             options={"SymmetricMode": True})
 
@@ -182,8 +194,12 @@ class Factor:
         """(pivot, column) pairs of the factorization.
 
         SuperLU factors ``Pr A Pc = L U``; ``U[j, j]`` belongs to column
-        ``argsort(perm_c)[j]`` of ``A`` (not ``perm_c[j]``).
+        ``argsort(perm_c)[j]`` of ``A`` (not ``perm_c[j]``).  PARDISO (accepted only with
+        every pivot ``d_i > PIVOT_TOL |a_ii|``) reports each column's pivot as the smallest
+        ratio found times its diagonal entry: a bound, enough for the callers' tests.
         """
+        if self.backend == "mkl":
+            return self.lu.min_ratio * self._diag, np.arange(self.n)
         return self.lu.U.diagonal(), np.argsort(self.lu.perm_c)
 
 
@@ -208,7 +224,7 @@ def factorize(K: sp.spmatrix, cons: Constraints, frame: Frame, n_input: int, sou
         bad = cols[(ratio < PIVOT_TOL) | (piv <= 0)]
     except RuntimeError:  # exactly singular: diagnose on a slightly shifted matrix
         shifted = Kff + sp.diags(1e-9 * np.maximum(d, d.max() * 1e-12))
-        f2 = Factor(shifted)
+        f2 = Factor(shifted, backend="scipy")      # SuperLU's pivots name the DOFs
         piv, cols = f2.pivots()
         bad = cols[np.abs(piv) / np.maximum(d[cols], 1e-300) < 1e-6]
         bad = np.union1d(bad, np.flatnonzero(d <= 1e-14 * d.max()))  # DOFs with no stiffness at all

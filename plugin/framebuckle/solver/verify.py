@@ -92,6 +92,11 @@ def negative_count(A) -> tuple[int | None, str]:
         return 0, "empty"
     if n <= DENSE_STURM:
         return _dense_negative(A), "dense LDL^T"
+    from . import pardiso                     # optional backend (extra "fast")
+    if pardiso.active():                     # one LDL^T (mtype -2): inertia without perturbed pivots
+        counts = pardiso.inertia(A)
+        if counts is not None:
+            return counts[1], "sparse LDL^T (MKL PARDISO)"
     A = sp.csc_matrix(A)
     for spec in ("MMD_AT_PLUS_A", "COLAMD"):
         try:
@@ -236,7 +241,9 @@ class SturmWorker:
         import multiprocessing as mp
         from concurrent.futures import ProcessPoolExecutor
         # "spawn": a fresh interpreter, safe beside BLAS threads (fork is not)
-        self._pool = ProcessPoolExecutor(max_workers=1, mp_context=mp.get_context("spawn"))
+        from .pardiso import one_thread      # MKL (if it is the backend) on one thread there
+        self._pool = ProcessPoolExecutor(max_workers=1, mp_context=mp.get_context("spawn"),
+                                         initializer=one_thread)
         self._pending = []
 
     @classmethod
