@@ -379,6 +379,7 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
     k = int(k)
     kk = k + 1                               # one extra to see whether a cluster continues
     shift = None
+    notes = []
     if method == "auto":
         method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "block"
     if method == "dense" or kk + 2 >= n:
@@ -416,12 +417,11 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             br.residuals = br.residuals[order] if len(br.residuals) == len(order) else br.residuals
             kn = np.einsum("ij,ij->j", br.vectors, Kff @ br.vectors)
             br.vectors = br.vectors / np.sqrt(np.maximum(kn, 1e-300))   # A- to K-normalised
-        if not br.converged:
-            bad = int(np.argmax(br.residuals >= BLOCK_TOL))
-            raise SolverError(f"case '{case}': the block eigensolver did not converge in {br.cycles} "
-                              f"restarts (mode {bad + 1} of {kk}: residual {br.residuals[bad]:.1e})",
-                              source=source)
-        mu, vec = br.theta, br.vectors
+        if br.converged:
+            mu, vec = br.theta, br.vectors
+        else:                                # stalled: another method, same factorization
+            mu, vec, method, note = _fallback(factor, Kff, Gff, kk, shift, v0, br, case, source)
+            notes.append(note)
     else:
         raise ValueError(f"unknown eigen method {method!r}")
 
@@ -439,5 +439,53 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
         raise SolverError(f"case '{case}': mode {i + 1} failed its residual check "
                           f"(||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g})",
                           source=source)
-    return EigenResult(lam, vec, res, cluster, method,
-                       shift=shift.sigma if method == "block" and shift is not None else None)
+    return EigenResult(lam, vec, res, cluster, method, notes,
+                       shift=shift.sigma if method in ("block", "arpack-shift") and shift is not None
+                       else None)
+
+
+#: a stalled block solution of at most this many free DOFs falls back to the dense solver when
+#: ARPACK does not converge either (the size of verify.DENSE_RETRY)
+DENSE_FALLBACK = 1500
+
+
+def _fallback(factor, Kff, Gff, kk, shift, v0, br, case, source):
+    r"""Eigenpairs when the block solver stalled: ARPACK, else dense for small models.
+
+    With a shift, ARPACK runs on :math:`-K_g x = \nu (K + \sigma K_g) x` with the shift's
+    factorization (``"arpack-shift"``), without one on :math:`-K_g x = \mu K x` with ``factor``;
+    copies of repeated load factors a single-vector Krylov run skips are searched for after it
+    (:func:`_add_missed_repeats`).  Returns ``(mu, vectors, method, note)``, ``mu`` descending,
+    vectors K-normalised.  Every result still goes through the residual check of
+    :func:`buckling_modes` and :func:`framebuckle.solver.verify.check_case`.
+    """
+    n = Kff.shape[0]
+    bad = int(np.argmax(br.residuals))
+    why = (f"the block eigensolver stalled after {br.cycles} restarts (mode {bad + 1} of {kk}: "
+           f"Krylov residual {br.residuals[bad]:.1e})")
+    op = spla.LinearOperator((n, n), matvec=factor.solve, dtype=float)
+    start = _start_vector(n, v0)
+    try:
+        if shift is not None:
+            s = shift.sigma
+            sop = spla.LinearOperator((n, n), matvec=shift.solve, dtype=float)
+            nu, vec = _arpack(-Gff, shift.A, sop, kk, min(n, max(2 * kk + 1, kk + 20)), start,
+                              case, source)
+            mu = nu / (1.0 + s * nu)
+            order = np.argsort(-mu, kind="stable")
+            mu, vec = mu[order], vec[:, order]
+            method = "arpack-shift"
+        else:
+            mu, vec = _arpack(-Gff, Kff, op, kk, min(n, max(2 * kk + 1, kk + 20)), start, case, source)
+            method = "arpack"
+        kn = np.einsum("ij,ij->j", vec, Kff @ vec)
+        vec = vec / np.sqrt(np.maximum(kn, 1e-300))
+        mu, vec = _add_missed_repeats(mu, vec, Kff, Gff, op, kk, case, source)
+        return mu, vec, method, f"{why}; solved with ARPACK ({method})"
+    except SolverError:
+        if n > DENSE_FALLBACK:
+            raise SolverError(f"case '{case}': {why}, and ARPACK did not converge either",
+                              source=source) from None
+    mu, vec = sla.eigh(-Gff.toarray(), Kff.toarray())
+    order = np.argsort(mu)[::-1]
+    return mu[order], vec[:, order], "dense", f"{why}; ARPACK did not converge either: solved densely"
