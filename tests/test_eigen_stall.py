@@ -22,6 +22,7 @@ from framebuckle.solver import verify
 from framebuckle.solver.solve import buckling_modes
 
 solve_mod = importlib.import_module("framebuckle.solver.solve")
+arpack_mod = importlib.import_module("framebuckle.solver.arpack")
 STUDY = {"combinations": {"ULS": {"G": 1.35, "Q": 1.5, "W_y": -0.9}}, "analysis": {"moment_terms": True}}
 
 
@@ -85,11 +86,11 @@ def test_dense_when_arpack_fails_too(q_pencil, monkeypatch):
 
     def no(*a, **kw):
         raise SolverError("no convergence")
-    monkeypatch.setattr(solve_mod, "_arpack", no)
+    monkeypatch.setattr(arpack_mod, "_arpack", no)
     er = buckling_modes(fac, K, G, 2, method="block")
     assert er.method == "dense"
     np.testing.assert_allclose(er.load_factors, dense_lambdas(K, G, 2), rtol=1e-8)   # scipy eigh
     verify.check_case(K, G, er, 2, "<t>", "Q")
-    monkeypatch.setattr(solve_mod, "DENSE_FALLBACK", 10)
+    monkeypatch.setattr(arpack_mod, "DENSE_FALLBACK", 10)
     with pytest.raises(SolverError, match="stalled"):
         buckling_modes(fac, K, G, 2, method="block")
