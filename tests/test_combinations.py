@@ -54,9 +54,7 @@ def test_factored_sums_equal_the_static_solution_of_the_combined_loads(mesh):
 
 def test_factored_geometric_stiffness_equals_direct_assembly(mesh):
     st = {"combinations": {"ULS": {"G": 1.35, "Q": 1.5, "W_y": -0.9}}, "analysis": {"moment_terms": True}}
-    # dense: the block solver does not converge on this frame with recovered moment terms at
-    # modes=1 (the same on main before combinations; reported separately)
-    r = fb.solve(mesh, st, modes=1, mesh_check=False, method="dense")
+    r = fb.solve(mesh, st, modes=1, mesh_check=False)
     p = r.pencil
     case = next(c for c in r.input.cases if c.name == "ULS")
     direct = p.gff._one(case)                 # assembled from the combined forces, element by element

@@ -269,7 +269,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             full[free] = dscale[:, None] * er.modes       # the physical (unscaled) modes
             wmodes = full[fine.n_dofs:].T.copy() if asm.n > fine.n_dofs else None
             full = full[:fine.n_dofs]
-            notes = list(case.extra.get("notes", []))
+            notes = list(case.extra.get("notes", [])) + list(er.notes)   # e.g. an eigensolver fallback
             if case.extra.get("moments") is not None and not geo.has_moments(case) and geo.on == "auto":
                 notes.append("end moments recovered from the rotations are not used in the geometric "
                              "stiffness (moment_terms = \"auto\"); set [analysis] moment_terms = true to "

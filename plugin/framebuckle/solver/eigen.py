@@ -124,6 +124,13 @@ EXPAND = 2
 #: residual check, before the Krylov tolerance is tightened
 POLISH_STEPS = 5
 
+#: restart cycles without the worst residual halving after which the iteration counts as stalled
+STALL_CYCLES = 8
+#: a stalled iteration doubles its basis, up to this many times the initial size: a cluster
+#: of Ritz values wider than the kept part of the basis (e.g. 14 nearly equal local load
+#: factors) is resolved only once the basis holds the whole cluster
+GROW_LIMIT = 4
+
 
 def block_krylov_schur(solve, K, mG, nev: int, *, block: int | None = None,
                        basis: int | None = None, tol: float = 1e-8, X0=None,
@@ -155,11 +162,13 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
     m = int(basis or (nev + 4 * b))
     m = min(max(m, nev + b), n)
     keep_n = min(max(nev, m - EXPAND * b), m - b)
+    m_cap = min(n, GROW_LIMIT * m)
     X = rng.standard_normal((n, b))
     if X0 is not None:
         X0 = np.asarray(X0, float).reshape(n, -1)[:, :b]
         X[:, : X0.shape[1]] = X0
     V = np.empty((n, m), order="F")
+    best, best_cycle, stalls = np.inf, 0, 0
     H = np.zeros((m, m))
     j = 0
     Z = X
@@ -206,6 +215,20 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
         nconv = nev if ok.all() else int(np.argmin(ok))
         if progress:
             progress(cycle, nconv, nev)
+        # ---- stall: the worst residual has not halved in STALL_CYCLES restarts.  A larger
+        # basis is tried first; a stall at the largest basis (a cluster still unresolved, or a
+        # tightened tolerance below the Krylov residual's rounding floor) ends the iteration
+        # unconverged, so the caller can fall back to another method at once
+        worst = float(res.max())
+        if worst < 0.5 * best:
+            best, best_cycle = worst, cycle
+        stalled = nconv < nev and cycle - best_cycle >= STALL_CYCLES
+        if stalled and m >= m_cap:
+            stalls += 1
+            if stalls >= 2 or cycle == max_cycles:
+                Xr = V[:, :j] @ Y[:, :nev]
+                return BlockResult(theta, Xr, res, False, cycle, solves, block_solves)
+            best, best_cycle = worst, cycle
         if nconv >= nev or cycle == max_cycles:
             Xr = V[:, :j] @ Y[:, :nev]
             if nconv >= nev and accept is not None and not accept(theta, Xr):
@@ -230,8 +253,9 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
                         return BlockResult(thp, Xpp, res, True, cycle, solves, block_solves)
                 if cycle < max_cycles and tol > 1e-11:
                     tol /= 100.0
-                else:
-                    return BlockResult(thp, Xpp, res, True, cycle, solves, block_solves)
+                    best, best_cycle = np.inf, cycle     # a new target: progress counted afresh
+                else:                    # the caller's check refused the result: not converged
+                    return BlockResult(thp, Xpp, res, False, cycle, solves, block_solves)
             else:
                 return BlockResult(theta, Xr, res, nconv >= nev, cycle, solves, block_solves)
         # ---- thick restart: keep the best Ritz vectors (the converged ones are locked among them);
@@ -242,6 +266,13 @@ def _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, a
         kk = keep_n
         Yk = Y[:, :kk]
         V[:, :kk] = (Yk.T @ V[:, :j].T).T    # V Yk, Fortran-ordered like V
+        if stalled and m < m_cap:        # grow the basis (Fortran-ordered like V), keep the kept part
+            m = min(m_cap, 2 * m)
+            V2 = np.empty((n, m), order="F")
+            V2[:, :kk] = V[:, :kk]
+            V, H = V2, np.zeros((m, m))
+            keep_n = min(max(nev, m - EXPAND * b), m - b)
+            best, best_cycle = np.inf, cycle
         H[:] = 0.0
         H[np.arange(kk), np.arange(kk)] = w[:kk]
         j = kk

@@ -23,6 +23,7 @@ import scipy.sparse.linalg as spla
 
 from ..errors import ModelError, SolverError
 from ..model.model import DOF_NAMES, Frame
+from .arpack import _add_missed_repeats, _arpack, _start_vector, fallback
 
 #: relative pivot below which a DOF is taken as free (mechanism)
 PIVOT_TOL = 1e-11
@@ -257,84 +258,6 @@ def _mechanism_message(gdofs, frame: Frame, n_input: int, coarse_cell) -> str:
             f"Probable cause: {cause}")
 
 
-def _start_vector(n: int, v0: np.ndarray | None = None) -> np.ndarray:
-    """A deterministic starting vector with a component along every mode.
-
-    A Krylov space grown from a previous case's mode alone stays inside the part of
-    the structure (or the symmetry class) that mode lives in: modes of other parts,
-    even a lower alpha_cr, are then never found.  A fixed pseudo-random vector is
-    added so the start is generic; ``v0`` (previous modes) keeps its head start.
-    """
-    r = np.random.default_rng(20240601).standard_normal(n)
-    r /= np.linalg.norm(r)
-    if v0 is None:
-        return r
-    v = np.asarray(v0, float)
-    if v.ndim == 2:
-        v = v.sum(axis=1)
-    nv = np.linalg.norm(v)
-    return r if not np.isfinite(nv) or nv == 0 else v / nv + r
-
-
-def _arpack(A, Kff, op, kk, ncv, start, case, source, tol=1e-12):
-    """Largest algebraic ``mu`` of ``A x = mu K x`` (ARPACK, K applied inverted by ``op``), descending."""
-    n = Kff.shape[0]
-    try:
-        mu, vec = spla.eigsh(A, k=kk, M=Kff, Minv=op, which="LA", ncv=ncv, tol=tol,
-                             v0=start, maxiter=max(1000, 20 * n))
-    except spla.ArpackNoConvergence as exc:
-        raise SolverError(f"case '{case}': the eigensolver did not converge "
-                          f"({len(exc.eigenvalues)} of {kk} modes)", source=source) from None
-    order = np.argsort(mu)[::-1]
-    return mu[order], vec[:, order]
-
-
-def _add_missed_repeats(mu, vec, Kff, Gff, op, kk, case, source, max_rounds=None):
-    r"""Find the copies of repeated load factors that a single-vector Krylov run skipped.
-
-    A Krylov space holds one vector per distinct eigenvalue (in exact arithmetic), so
-    identical members, whose load factors repeat exactly, lose copies.  The found modes
-    ``V`` are deflated with the K-orthogonal projector :math:`P = I - V C^{-1} V^T K`,
-    :math:`C = V^T K V`, and the pencil :math:`(P^T (-K_g) P, K)` is searched again: it
-    keeps every eigenpair K-orthogonal to ``V`` and moves those in ``V`` to ``mu = 0``.
-    Copies above the current ``kk``-th ``mu`` are merged in, until a search finds none.
-    Each search asks for only a few modes to a loose tolerance: it is a check, usually
-    finding nothing.
-    """
-    n = Kff.shape[0]
-    rounds = kk if max_rounds is None else max_rounds
-    kc = min(kk, 2)
-    for _ in range(rounds):
-        if n - vec.shape[1] <= kc + 2:
-            break
-        KV = Kff @ vec
-        C = vec.T @ KV
-
-        def proj(x, V=vec, KV=KV, C=C):
-            return x - V @ np.linalg.solve(C, KV.T @ x)
-
-        def projT(x, V=vec, KV=KV, C=C):
-            return x - KV @ np.linalg.solve(C, V.T @ x)
-
-        A = spla.LinearOperator((n, n), matvec=lambda x: projT(-(Gff @ proj(x))), dtype=float)
-        start = proj(np.random.default_rng(20240602 + vec.shape[1]).standard_normal(n))
-        floor = max(mu[kk - 1], 0.0) + 1e-9 * abs(mu[0])
-        # a loose search decides (Ritz values are lower bounds of the largest mu) ...
-        mu2, _ = _arpack(A, Kff, op, kc, min(n, kc + 10), start, case, source, tol=1e-6)
-        if not (mu2 > floor).any():
-            break
-        # ... and only a find is computed to full accuracy
-        mu2, vec2 = _arpack(A, Kff, op, kc, min(n, kc + 20), start, case, source)
-        new = mu2 > floor
-        if not new.any():
-            break
-        mu = np.concatenate([mu, mu2[new]])
-        vec = np.concatenate([vec, vec2[:, new]], axis=1)
-        order = np.argsort(mu)[::-1][:kk]
-        mu, vec = mu[order], vec[:, order]
-    return mu, vec
-
-
 @dataclass
 class EigenResult:
     load_factors: np.ndarray         # (k,) ascending positive
@@ -395,6 +318,7 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
     k = int(k)
     kk = k + 1                               # one extra to see whether a cluster continues
     shift = None
+    notes = []
     if method == "auto":
         method = "dense" if n <= DENSE_LIMIT or kk + 2 >= n else "block"
     if method == "dense" or kk + 2 >= n:
@@ -432,12 +356,11 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
             br.residuals = br.residuals[order] if len(br.residuals) == len(order) else br.residuals
             kn = np.einsum("ij,ij->j", br.vectors, Kff @ br.vectors)
             br.vectors = br.vectors / np.sqrt(np.maximum(kn, 1e-300))   # A- to K-normalised
-        if not br.converged:
-            bad = int(np.argmax(br.residuals >= BLOCK_TOL))
-            raise SolverError(f"case '{case}': the block eigensolver did not converge in {br.cycles} "
-                              f"restarts (mode {bad + 1} of {kk}: residual {br.residuals[bad]:.1e})",
-                              source=source)
-        mu, vec = br.theta, br.vectors
+        if br.converged:
+            mu, vec = br.theta, br.vectors
+        else:                                # stalled: another method, same factorization
+            mu, vec, method, note = fallback(factor, Kff, Gff, kk, shift, v0, br, case, source)
+            notes.append(note)
     else:
         raise ValueError(f"unknown eigen method {method!r}")
 
@@ -455,5 +378,6 @@ def buckling_modes(factor: Factor, Kff: sp.spmatrix, Gff: sp.spmatrix, k: int = 
         raise SolverError(f"case '{case}': mode {i + 1} failed its residual check "
                           f"(||(K + lambda Kg) phi|| / ||K phi|| = {res[i]:.2e} > {RESIDUAL_TOL:g})",
                           source=source)
-    return EigenResult(lam, vec, res, cluster, method,
-                       shift=shift.sigma if method == "block" and shift is not None else None)
+    return EigenResult(lam, vec, res, cluster, method, notes,
+                       shift=shift.sigma if method in ("block", "arpack-shift") and shift is not None
+                       else None)
