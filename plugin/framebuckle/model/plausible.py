@@ -28,8 +28,9 @@ constant):
   ``IW_ERROR`` (a depth 100 times the section's own) an error: ``Iw`` in
   mm\ :sup:`6` or cm\ :sup:`6` beside lengths in metres.
 * ``cell-outlier``: per cell, ``E``, ``A``, ``Iy``, ``Iz``, ``J`` (beams) and
-  ``Iw`` farther than a factor ``OUTLIER`` from the model's median: a warning
-  naming the cells (a few cells exported in other units).
+  ``Iw`` a factor ``OUTLIER`` or more from the model's median (boundary
+  included: a kPa/Pa or kN/N slip is exactly 1000): a warning naming the cells
+  (a few cells exported in other units).
 
 Geometry:
 
@@ -99,7 +100,13 @@ def _outlying(a, where) -> np.ndarray:
         return np.zeros(len(a), bool)
     with np.errstate(all="ignore"):
         r = a / np.median(a[where])
-    return where & ((r > OUTLIER) | (r < 1 / OUTLIER))
+    return where & _far(r)
+
+
+def _far(r) -> np.ndarray:
+    """Ratios at least OUTLIER away from 1, boundary included (a unit slip is exactly a power of
+    1000, and one cell's value over a median of equal values is exactly that power)."""
+    return (r >= OUTLIER * (1 - 1e-9)) | (r <= (1 + 1e-9) / OUTLIER)
 
 
 def warping_ratio(props: dict, beam) -> np.ndarray | None:
@@ -152,7 +159,7 @@ def outlier_warnings(frame, Iw=None) -> list[str]:
         med = float(np.median(a[where]))
         with np.errstate(all="ignore"):
             r = a / med
-        bad = np.flatnonzero(where & ((r > OUTLIER) | (r < 1 / OUTLIER)))
+        bad = np.flatnonzero(where & _far(r))
         if bad.size:
             cells = np.unique(frame.parent[bad])
             i = bad[0]
