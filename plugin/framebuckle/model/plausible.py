@@ -15,6 +15,8 @@ constant):
   sec. 109, from memory).  Warning above ``(1 + SECTION_TOL) (Iy + Iz)`` (a
   torsion-stiff idealisation is allowed), error above ``J_ERROR (Iy + Iz)``
   unless that cell's Iy or Iz is a ``cell-outlier`` (then they are the slip).
+* ``torsion-thin``: :math:`J <` ``J_THIN`` :math:`(I_y + I_z)` is a warning (J in
+  a smaller unit than Iy and Iz, e.g. m^4 values of mm^4 data scaled twice).
 * ``polar-sum``: :math:`I_p = I_y + I_z + A (y_0^2 + z_0^2) \ge I_y + I_z`
   (parallel-axis theorem about the shear centre).  Error below
   ``(1 - SECTION_TOL) (Iy + Iz)``.
@@ -55,6 +57,9 @@ SECTION_TOL = 0.01
 #: a warning (a deliberately torsion-stiff idealisation is allowed), and also above it when the cell's
 #: Iy or Iz is itself a cell outlier (then the bending constants are the likely slip, not J)
 J_ERROR = 1e3
+#: J below this share of Iy + Iz is a warning (rule torsion-thin): thin-walled open sections give
+#: some 1e-4 .. 1e-2 (IPE 300: 2.2e-3; a cold-formed Z 300 x 1.5: about 5e-5; values from memory)
+J_THIN = 1e-5
 IW_WARN = 10.0
 IW_ERROR = 1e4
 OUTLIER = 1e3
@@ -132,6 +137,13 @@ def section_warnings(props: dict, bar, cell_ids, name) -> list[str]:
                    f"({props['J'][i]:.4g}) exceeds {name('Iy')} + {name('Iz')} ({s[i]:.4g}), which no real "
                    f"section does (rule torsion-polar, J <= Iy + Iz); fine for a deliberately torsion-stiff "
                    f"member, otherwise check the unit of J")
+    thin = np.flatnonzero(beam & (props["J"] < J_THIN * s))
+    if thin.size:
+        i = thin[0]
+        out.append(f"section: {name('J')} of cell(s) {', '.join(str(c) for c in np.unique(cell_ids[thin])[:8])} "
+                   f"({props['J'][i]:.4g}) is {props['J'][i] / s[i]:.3g} times {name('Iy')} + {name('Iz')} "
+                   f"(rule torsion-thin, below {J_THIN:g}; thin-walled open sections give some 1e-4 .. 1e-2): "
+                   f"check the unit of J")
     rho = warping_ratio(props, beam)
     if rho is None:
         return out
