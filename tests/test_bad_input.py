@@ -538,6 +538,14 @@ def study_unknown_solver(t):
     return [m, "--study", s], ["study.toml", "[analysis] solver", "auto", "fastest"], [m, s]
 
 
+def duplicate_array_name(t):
+    # a case field renamed onto another: two CellData arrays of one name (meshio keeps the last)
+    p, c, ax, r = portal_arrays()
+    f = _vtu(t, mesh_from(p, c, ax, r, **{"axial_force.B": 2 * ax}))
+    f.write_text(f.read_text().replace('Name="axial_force.B"', 'Name="axial_force"'))
+    return [f], ["model.vtu", "CellData", "2 arrays named 'axial_force'", "duplicate-array"], [f]
+
+
 CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncated_xdmf,
              xdmf_missing_heavy_data, truncated_msh, no_line_cells, missing_axial, missing_section,
              nan_E, inf_axial, zero_E, negative_G, zero_A, zero_Iy, negative_Iz, negative_J,
@@ -558,7 +566,7 @@ CATALOGUE = [no_file, directory, empty_file, truncated_vtu, corrupt_vtu, truncat
              study_release_cells_string, study_warping_points_string, absurd_force, absurd_coordinates,
              absurd_subdivision, polyline_cells,
              combination_unknown_case, combination_factor_not_a_number, combination_without_compression,
-             study_unknown_solver]
+             study_unknown_solver, duplicate_array_name]
 
 
 def test_catalogue_is_large_enough():

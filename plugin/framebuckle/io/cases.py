@@ -49,6 +49,18 @@ def _cases(mesh, study, blocks, expand, frame, src, steps) -> list[LoadCase]:
     return with_combinations(cases, study, frame)
 
 
+def lookalike_case_names(names) -> list[str]:
+    """Rule ``case-lookalike``: case names equal but for letter case or surrounding spaces (a
+    warning): usually a case field renamed onto another's name, and outputs named after cases
+    would collide on case-insensitive file systems."""
+    groups: dict[str, list[str]] = {}
+    for n in names:
+        groups.setdefault(n.strip().casefold(), []).append(n)
+    return [f"case names: {' and '.join(repr(n) for n in g)} differ only in letter case or spaces "
+            f"(rule case-lookalike): one is probably a renamed copy of the other; check the load case "
+            f"fields' names" for g in groups.values() if len(g) > 1]
+
+
 def time_labels(times) -> list[str]:
     """``t=<time>`` labels with as many digits as it takes to tell every step apart."""
     for p in range(6, 18):

@@ -40,6 +40,8 @@ def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
             elif p.suffix.lower() == ".msh":
                 mesh = _read_msh(p)
             else:
+                if p.suffix.lower() == ".vtu":
+                    _vtu_unique_names(p)
                 mesh = meshio.read(p)
     except InputError:
         raise
@@ -57,6 +59,28 @@ def read_mesh(path: str | Path) -> tuple[meshio.Mesh, list]:
         kinds = {k.strip() for g in skipped for k in g.split(",") if k.strip()}
         mesh.info_skipped = sorted(VTK_SKIPPED.get(k, f"VTK type {k}") for k in kinds)
     return mesh, steps
+
+
+_VTU_BLOCK = re.compile(r"<(CellData|PointData)\b[^>]*>(.*?)</\1\s*>", re.S)
+_VTU_NAME = re.compile(r"<DataArray\b[^>]*?\bName\s*=\s*(?:\"([^\"]*)\"|'([^']*)')")
+
+
+def _vtu_unique_names(p: Path) -> None:
+    """Refuse a VTU whose CellData or PointData holds two arrays of one name (rule
+    ``duplicate-array``): meshio keeps only the last of them, so a load case (or any field)
+    would vanish or be replaced without a word.  Only the XML before any raw appended data
+    is scanned (inline data, ASCII or base64, holds no quotes or '<')."""
+    head = p.read_bytes()
+    cut = head.find(b"<AppendedData")
+    text = (head if cut < 0 else head[:cut]).decode("latin-1")
+    for kind, body in _VTU_BLOCK.findall(text):
+        names = [a or b for a, b in _VTU_NAME.findall(body)]
+        dup = sorted({n for n in names if names.count(n) > 1})
+        if dup:
+            what = "cell" if kind == "CellData" else "point"
+            raise InputError(f"{kind} holds {names.count(dup[0])} arrays named '{dup[0]}' (rule duplicate-array): "
+                             f"a reader keeps only one of them, so a {what} field or load case would be lost; "
+                             f"rename one of them", source=str(p))
 
 
 def _read_msh(p: Path) -> meshio.Mesh:

@@ -38,7 +38,7 @@ from ..model.releases import read_releases
 from ..model.sections import DimensionError, table_rows
 from .study import SUPPORT_KINDS, Study
 from ..mechanics.twistlength import EQUIVALENT_NOTE, twist_lengths
-from .cases import _cases
+from .cases import _cases, lookalike_case_names
 from .fields import _cell_field, _line_blocks
 from .meshfile import read_mesh
 
@@ -294,6 +294,7 @@ def mesh_to_model(mesh: meshio.Mesh, study: Study, src: str, steps=()) -> InputM
 
     # load cases
     cases = _cases(mesh, study, blocks, expand, frame, src, steps)
+    warnings += lookalike_case_names([c.name for c in cases])
     extra = {"Iw": Iw, "fy": props.get("fy"), "member": cf("member"), "J_raw": props["J"],
              "twist_lengths": twist, "sections": section_info["_sections"] or None,
              "section_warnings": section_info["_section_warnings"] or [],

@@ -16,6 +16,8 @@ constant):
   sec. 109, from memory).  Warning above ``(1 + SECTION_TOL) (Iy + Iz)`` (a
   torsion-stiff idealisation is allowed), error above ``J_ERROR (Iy + Iz)``
   unless that cell's Iy or Iz is a ``cell-outlier`` (then they are the slip).
+* ``torsion-thin``: :math:`J <` ``J_THIN`` :math:`(I_y + I_z)` is a warning (J in
+  a smaller unit than Iy and Iz, e.g. m^4 values of mm^4 data scaled twice).
 * ``polar-sum``: :math:`I_p = I_y + I_z + A (y_0^2 + z_0^2) \ge I_y + I_z`
   (parallel-axis theorem about the shear centre).  Error below
   ``(1 - SECTION_TOL) (Iy + Iz)``.
@@ -29,8 +31,9 @@ constant):
   ``IW_ERROR`` (a depth 100 times the section's own) an error: ``Iw`` in
   mm\ :sup:`6` or cm\ :sup:`6` beside lengths in metres.
 * ``cell-outlier``: per cell, ``E``, ``A``, ``Iy``, ``Iz``, ``J`` (beams) and
-  ``Iw`` farther than a factor ``OUTLIER`` from the model's median: a warning
-  naming the cells (a few cells exported in other units).
+  ``Iw`` a factor ``OUTLIER`` or more from the model's median (boundary
+  included: a kPa/Pa or kN/N slip is exactly 1000): a warning naming the cells
+  (a few cells exported in other units).
 
 Geometry:
 
@@ -55,6 +58,9 @@ SECTION_TOL = 0.01
 #: a warning (a deliberately torsion-stiff idealisation is allowed), and also above it when the cell's
 #: Iy or Iz is itself a cell outlier (then the bending constants are the likely slip, not J)
 J_ERROR = 1e3
+#: J below this share of Iy + Iz is a warning (rule torsion-thin): thin-walled open sections give
+#: some 1e-4 .. 1e-2 (IPE 300: 2.2e-3; a cold-formed Z 300 x 1.5: about 5e-5; values from memory)
+J_THIN = 1e-5
 IW_WARN = 10.0
 IW_ERROR = 1e4
 OUTLIER = 1e3
@@ -100,7 +106,13 @@ def _outlying(a, where) -> np.ndarray:
         return np.zeros(len(a), bool)
     with np.errstate(all="ignore"):
         r = a / np.median(a[where])
-    return where & ((r > OUTLIER) | (r < 1 / OUTLIER))
+    return where & _far(r)
+
+
+def _far(r) -> np.ndarray:
+    """Ratios at least OUTLIER away from 1, boundary included (a unit slip is exactly a power of
+    1000, and one cell's value over a median of equal values is exactly that power)."""
+    return (r >= OUTLIER * (1 - 1e-9)) | (r <= (1 + 1e-9) / OUTLIER)
 
 
 def warping_ratio(props: dict, beam) -> np.ndarray | None:
@@ -126,6 +138,13 @@ def section_warnings(props: dict, bar, cell_ids, name) -> list[str]:
                    f"({props['J'][i]:.4g}) exceeds {name('Iy')} + {name('Iz')} ({s[i]:.4g}), which no real "
                    f"section does (rule torsion-polar, J <= Iy + Iz); fine for a deliberately torsion-stiff "
                    f"member, otherwise check the unit of J")
+    thin = np.flatnonzero(beam & (props["J"] < J_THIN * s))
+    if thin.size:
+        i = thin[0]
+        out.append(f"section: {name('J')} of cell(s) {', '.join(str(c) for c in np.unique(cell_ids[thin])[:8])} "
+                   f"({props['J'][i]:.4g}) is {props['J'][i] / s[i]:.3g} times {name('Iy')} + {name('Iz')} "
+                   f"(rule torsion-thin, below {J_THIN:g}; thin-walled open sections give some 1e-4 .. 1e-2): "
+                   f"check the unit of J")
     rho = warping_ratio(props, beam)
     if rho is None:
         return out
@@ -153,7 +172,7 @@ def outlier_warnings(frame, Iw=None) -> list[str]:
         med = float(np.median(a[where]))
         with np.errstate(all="ignore"):
             r = a / med
-        bad = np.flatnonzero(where & ((r > OUTLIER) | (r < 1 / OUTLIER)))
+        bad = np.flatnonzero(where & _far(r))
         if bad.size:
             cells = np.unique(frame.parent[bad])
             i = bad[0]
