@@ -72,7 +72,11 @@ def main(argv):
            "sturm_checked": sum(1 for c in r.cases if c.checks.get("sturm_count") is not None
                                 or "sturm" in json.dumps(c.checks, default=str)),
            "lowest_alpha": min(c.alpha_cr for c in r.cases if c.alpha_cr),
-           "load": os.getloadavg()}
+           "load": os.getloadavg(), "backend": r.timings.get("backend")}
+    st = r.timings.get("case_stages") or []
+    if st:                                  # where the time goes: first case, mean of the others
+        out["stages_first"] = st[0]
+        out["stages_additional_mean"] = {k: float(np.mean([s[k] for s in st[1:]])) for k in st[0]}
     print(json.dumps(out, indent=1))
 
 

@@ -419,13 +419,123 @@ def lattice_mast() -> Scenario:
     return sc
 
 
+# ------------------------------------------------------------------ scenario 4: storage building
+
+#: basic cases of the storage building are characteristic (unfactored) values; its combinations
+#: (EN 1990 6.10 style; invented but usual factors: 1.35 / 1.0 permanent, 1.5 variable, wind
+#: accompanying with 0.6, stored goods accompanying with 1.0) and the factor ranges of its envelope
+STORAGE_COMBINATIONS = {
+    "ULS-1": {"G": 1.35, "Q": 1.5},
+    "ULS-2": {"G": 1.35, "Q": 1.5, "W_x": 0.9},
+    "ULS-3": {"G": 1.35, "Q": 1.5, "W_x": -0.9},
+    "ULS-4": {"G": 1.35, "Q": 1.5, "W_y": 0.9},
+    "ULS-5": {"G": 1.35, "Q": 1.5, "W_y": -0.9},
+    "ULS-6": {"G": 1.35, "Q": 1.5, "W_x": 1.5},
+    "ULS-7": {"G": 1.0, "W_x": 1.5},
+    "ULS-8": {"G": 1.0, "W_y": -1.5},
+}
+STORAGE_ENVELOPE = {"G": [1.0, 1.35], "Q": [0.0, 1.5], "W_x": [-1.5, 1.5], "W_y": [-1.5, 1.5]}
+
+
+def storage_building() -> Scenario:
+    """Two-storey steel storage building: 3 x 6 m by 2 x 5 m on plan, storeys 4.5 m and 4.0 m.
+
+    Rigid beam-to-column joints, pinned bases; X-bracing (bars) in the middle bay of both long
+    walls and the first bay of both gable walls, plan bracing in the end bays of both levels.
+    Basic cases (characteristic values, no partial factors): ``G`` permanent, ``Q`` imposed
+    (stored goods on the floor, maintenance on the roof), ``W_x`` / ``W_y`` wind along X / Y.
+    """
+    ax, ay, hs = 6.0, 5.0, (4.5, 4.0)
+    nx, ny = 3, 2
+    xs, ys = np.arange(nx + 1) * ax, np.arange(ny + 1) * ay
+    zs = np.concatenate([[0.0], np.cumsum(hs)])
+    column = i_section(260.0, 260.0, 10.0, 17.5)       # rolled H about 260 x 260 x 93 kg/m
+    beam_x = i_section(400.0, 180.0, 8.6, 13.5)        # rolled I about 400 x 180 x 66 kg/m
+    beam_y = i_section(270.0, 135.0, 6.6, 10.2)        # rolled I about 270 x 135 x 36 kg/m
+    wall_brace = chs(114.3, 6.3)
+    plan_brace = chs(76.1, 4.0)
+
+    B = Builder()
+    for k, z in enumerate(zs):
+        for j, y in enumerate(ys):
+            for i, x in enumerate(xs):
+                B.node((i, j, k), (x, y, z))
+    key = B.key
+    for j in range(ny + 1):
+        for i in range(nx + 1):
+            for k in range(len(hs)):
+                B.member([key[(i, j, k)], key[(i, j, k + 1)]], column, STEEL, "column",
+                         orientation=(1.0, 0.0, 0.0))
+    for k in range(1, len(zs)):
+        for j in range(ny + 1):               # main beams along X carry the floor (one-way deck)
+            B.member([key[(i, j, k)] for i in range(nx + 1)], beam_x, STEEL, "beam_x")
+        for i in range(nx + 1):
+            B.member([key[(i, j, k)] for j in range(ny + 1)], beam_y, STEEL, "beam_y")
+
+    def cross(a, b, c, d, sec, group):
+        B.member([key[a], key[b]], sec, STEEL, group, bar=True)
+        B.member([key[c], key[d]], sec, STEEL, group, bar=True)
+
+    for k in range(len(hs)):
+        for j in (0, ny):                     # long walls, middle bay
+            cross((1, j, k), (2, j, k + 1), (2, j, k), (1, j, k + 1), wall_brace, "wall_bracing")
+        for i in (0, nx):                     # gable walls, first bay
+            cross((i, 0, k), (i, 1, k + 1), (i, 1, k), (i, 0, k + 1), wall_brace, "wall_bracing")
+    for k in range(1, len(zs)):               # plan bracing, end bays
+        for i in (0, nx - 1):
+            for j in range(ny):
+                cross((i, j, k), (i + 1, j + 1, k), (i + 1, j, k), (i, j + 1, k), plan_brace,
+                      "plan_bracing")
+
+    nodes, cells, props, groups = B.arrays()
+    n = len(nodes)
+    restraint = np.zeros((n, 6), bool)
+    restraint[[key[(i, j, 0)] for j in range(ny + 1) for i in range(nx + 1)], :3] = True
+    sc = Scenario("storage_building", nodes, cells, props, groups, restraint, {},
+                  formats=("vtu", "combinations"))
+
+    # characteristic loads (Pa on plan): floor deck, screed and services 3.5 kPa, roof 1.0 kPa;
+    # stored goods 7.5 kPa on the floor, maintenance 0.6 kPa on the roof; wind: peak pressure
+    # 0.8 kPa, pressure + suction coefficients 0.8 + 0.5 on the walls (common practice)
+    g_load, q_load = {1: 3.5e3, 2: 1.0e3}, {1: 7.5e3, 2: 0.6e3}
+    qp, cf = 0.8e3, 0.8 + 0.5
+    bx = np.flatnonzero(groups == "beam_x")
+    yb, zb = nodes[cells[bx, 0], 1], nodes[cells[bx, 0], 2]
+    width = np.where((yb == 0.0) | (yb == ys[-1]), ay / 2, ay)       # tributary deck width
+    level = np.rint(np.searchsorted(zs, zb - 1e-9)).astype(int)
+
+    def deck(pressures):
+        q = np.zeros((len(cells), 3))
+        q[bx, 2] = -np.array([pressures[int(lv)] for lv in level]) * width
+        return q
+
+    sc.cases["G"] = (np.zeros((n, 6)), sc.self_weight() + deck(g_load))
+    sc.cases["Q"] = (np.zeros((n, 6)), deck(q_load))
+    trib_h = np.zeros(len(zs))
+    trib_h[1:] += np.diff(zs) / 2
+    trib_h[:-1] += np.diff(zs) / 2
+
+    def wind(axis, across):
+        P = np.zeros((n, 6))
+        breadth = across[-1] - across[0]
+        for k in range(1, len(zs)):
+            F = qp * cf * breadth * trib_h[k]                         # storey force at level k
+            ids = [key[(i, j, k)] for j in range(ny + 1) for i in range(nx + 1)]
+            P[ids, axis] += F / len(ids)                              # floors spread it to every joint
+        return P
+
+    sc.cases["W_x"] = (wind(0, ys), np.zeros((len(cells), 3)))
+    sc.cases["W_y"] = (wind(1, xs), np.zeros((len(cells), 3)))
+    return sc
+
+
 def _diameters(props) -> np.ndarray:
     """Outside diameter of circular hollow members from their area and second moment:
     I = A (d^2 + di^2) / 16 and A = pi (d^2 - di^2) / 4  give  d^2 = 8 I / A + 2 A / pi."""
     return np.sqrt(8 * props["Iy"] / props["A"] + 2 * props["A"] / math.pi)
 
 
-SCENARIOS = (workshop_portal, footbridge, lattice_mast)
+SCENARIOS = (workshop_portal, footbridge, lattice_mast, storage_building)
 
 
 def build_scenarios() -> list[Scenario]:
@@ -526,6 +636,25 @@ def write_study(sc: Scenario, path: Path):
     path.write_text("\n".join(lines), encoding="utf-8")
 
 
+def write_combinations(sc: Scenario, csv_path: Path, study_path: Path):
+    """The storage building's combination table (CSV) and study file with the envelope."""
+    names = list(sc.cases)
+    rows = ["name," + ",".join(names)]
+    for cname, f in STORAGE_COMBINATIONS.items():
+        rows.append(cname + "," + ",".join(f"{f[k]:g}" if k in f else "" for k in names))
+    csv_path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    lines = [f"# Study file for {sc.name}.vtu: the worst combination over factor ranges (envelope).",
+             f"# Listed combinations: {csv_path.name} (--combinations); basic cases are characteristic",
+             "# values (axial_force.G, axial_force.Q, axial_force.W_x, axial_force.W_y).",
+             "", "[units]", 'force = "N"', 'length = "m"', "", "[envelope]"]
+    lines += [f"{k} = [{lo:g}, {hi:g}]".replace("[0,", "[0.0,").replace("[1,", "[1.0,")
+              for k, (lo, hi) in STORAGE_ENVELOPE.items()]
+    lines += ['exclusive = [["W_x", "W_y"]]     # wind along one axis at a time',
+              "# solve the listed combinations too (default true: skip those certified above the limit)",
+              "screen = false", ""]
+    study_path.write_text("\n".join(lines), encoding="utf-8")
+
+
 def write_scenario(sc: Scenario, results: dict, out: Path) -> list[Path]:
     written = []
     if "vtu" in sc.formats:
@@ -540,6 +669,9 @@ def write_scenario(sc: Scenario, results: dict, out: Path) -> list[Path]:
         write_msh(sc, results, written[-1])
         written.append(out / f"{sc.name}.study.toml")
         write_study(sc, written[-1])
+    if "combinations" in sc.formats:
+        written += [out / f"{sc.name}.combinations.csv", out / f"{sc.name}.study.toml"]
+        write_combinations(sc, written[-2], written[-1])
     return written
 
 

@@ -199,6 +199,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
     except ModelError as exc:
         raise _explained(exc, warnings) from None
     timings["cases"] = []
+    timings["case_stages"] = []
     free = cons.free
     warnings += verify.stiffness_warnings(factor, Kff, free, n_in, coarse_cell, asm, scale=dscale)[0]
     geo = _CaseGeometric(asm, ref, options.get("moment_terms", True))
@@ -232,8 +233,11 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                                         notes=list(case.extra.get("notes", []))))
                 _combos.record(solved_F, solved_g, fvec, None)
                 continue
+            t1, b0 = time.perf_counter(), gff.basic_seconds
             Gff = gff(case)
+            t2 = time.perf_counter()
             v0 = warm.start(case, Kc, Gff, k + 1)
+            t3 = time.perf_counter()
             try:
                 try:
                     er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source,
@@ -245,6 +249,7 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                     # again from the last case's modes, as for plain cases
                     er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=warm.last, source=im.source,
                                         case=case.name)
+                t4 = time.perf_counter()
                 try:
                     checks = verify.check_case(Kc, Gff, er, k, im.source, case.name,
                                                sturm=worker is None)
@@ -255,6 +260,13 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
                     er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
                     checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
                     checks["retried_dense"] = True
+                t5 = time.perf_counter()
+                # where the time of a case goes (benchmarks/combinations.py): basic Kg assembly,
+                # factored sum, warm start, eigensolution, checks (with any dense retry)
+                timings["case_stages"].append({"basic_kg": gff.basic_seconds - b0,
+                                               "kg": t2 - t1 - (gff.basic_seconds - b0),
+                                               "warm_start": t3 - t2, "eigensolution": t4 - t3,
+                                               "checks": t5 - t4})
                 if worker is not None and len(er.load_factors):
                     worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             except SolverError as exc:

@@ -12,6 +12,8 @@ screening by the convex-hull bound, and the envelope summary.
 
 from __future__ import annotations
 
+import time
+
 import numpy as np
 import scipy.linalg as sla
 
@@ -37,6 +39,7 @@ class FactoredGeometric:
     def __init__(self, geo, free, scale):
         self.geo, self.free, self.scale = geo, free, scale
         self._basic = {}
+        self.basic_seconds = 0.0            # time spent assembling the basic cases' matrices
 
     def has_moments(self, case) -> bool:
         return self.geo.has_moments(case)
@@ -53,7 +56,9 @@ class FactoredGeometric:
             if f == 0.0:
                 continue
             if name not in self._basic:
+                t = time.perf_counter()
                 self._basic[name] = self._one(comb["basic"][name]).tocsr()
+                self.basic_seconds += time.perf_counter() - t
             G = f * self._basic[name] if G is None else G + f * self._basic[name]
         return G if G is not None else self._one(case)
 

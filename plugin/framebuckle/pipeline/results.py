@@ -108,7 +108,8 @@ class Result:
     warnings : list of str
         Plausibility and conditioning warnings.
     timings : dict
-        Seconds per stage (read, assembly, factorization, cases, ...).
+        Seconds per stage (read, assembly, factorization, cases, ...); ``case_stages``: per
+        solved case, a dict of basic_kg, kg (factored sum), warm_start, eigensolution, checks.
     pencil : object
         The matrices every case was solved with, for later stages that extend a solution;
         ``None`` when not solved here.
