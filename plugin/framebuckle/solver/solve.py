@@ -54,7 +54,13 @@ def find_constraints(frame: Frame, K: sp.spmatrix, planar: bool | str = "auto") 
     notes = []
     diag = np.abs(K.diagonal()).reshape(n, 6)
     rot = diag[:, 3:]
-    ref = rot.max() if rot.size and rot.max() > 0 else 1.0
+    # each rotation is judged against its own node's translational stiffness times the model's
+    # size squared (same units, N m): one cell with a constant in the wrong unit (an Iw in mm^6)
+    # cannot make the ordinary rotations of the whole model look "free of stiffness"
+    size = float(np.ptp(frame.nodes, axis=0).max()) if frame.n_nodes else 1.0
+    ref = diag[:, :3].max(axis=1) * max(size, 1e-300) ** 2
+    fallback = rot.max() if rot.size and rot.max() > 0 else 1.0
+    ref = np.where(ref > 0, ref, fallback)[:, None]
     auto = (rot <= 1e-14 * ref) & ~frame.restraint[:, 3:]
     fixed.reshape(n, 6)[:, 3:] |= auto
     n_auto = int(auto.sum())
@@ -77,13 +83,19 @@ def find_constraints(frame: Frame, K: sp.spmatrix, planar: bool | str = "auto") 
     return Constraints(free, fixed, n_auto, axis, tuple(notes))
 
 
+#: out-of-plane spread of the points, relative to the model's size, below which a model is planar
+#: (export noise of a few micrometres in a frame of metres must not turn a plane frame into a 3D
+#: mechanism)
+PLANE_TOL = 1e-6
+
+
 def plane_axis(nodes: np.ndarray) -> int | None:
     """Global axis normal to the plane of the nodes, or None if not planar in a global plane."""
     span = np.ptp(nodes, axis=0)
     scale = span.max()
     if scale <= 0:
         return None
-    flat = span <= 1e-9 * scale
+    flat = span <= PLANE_TOL * scale
     if flat.sum() == 1:
         return int(np.flatnonzero(flat)[0])
     return None
