@@ -309,6 +309,18 @@ def _owner_alive(text: str) -> bool | None:
 _HELD: dict[str, int] = {}
 
 
+def make_dir(out: Path) -> Path:
+    """Create the output folder ``out`` (and its parents); every ``OSError`` an ``OutputError``."""
+    out = Path(out)
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise OutputError(f"cannot create the output folder: {os_message(exc)}", source=str(out)) from None
+    if not out.is_dir():
+        raise OutputError("the output folder is not a folder", source=str(out))
+    return out
+
+
 @contextmanager
 def folder_lock(out, force: bool = False, wait_note=None):
     """Hold ``<out>/.framebuckle.lock`` (creating ``out``); see the module docstring.
@@ -317,12 +329,7 @@ def folder_lock(out, force: bool = False, wait_note=None):
     """
     out = Path(out)
     created = not out.exists()
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise OutputError(f"cannot create the output folder: {os_message(exc)}", source=str(out)) from None
-    if not out.is_dir():
-        raise OutputError("the output folder is not a folder", source=str(out))
+    make_dir(out)
     key = str(out.resolve())
     if key in _HELD:              # re-entrant within one process
         _HELD[key] += 1

@@ -19,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .outputs import PAUSE_ENV, _pause_hook  # noqa: F401  (PAUSE_ENV: the tests' hook)
+from .outputs import PAUSE_ENV, _pause_hook, make_dir  # noqa: F401  (PAUSE_ENV: the tests' hook)
 from ..errors import OutputError
 
 
@@ -50,14 +50,7 @@ def atomic_path(target: Path, force: bool = True, protect=()):
 
 
 def prepare_dir(out: Path) -> Path:
-    out = Path(out)
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        from .outputs import os_message
-        raise OutputError(f"cannot create the output folder: {os_message(exc)}", source=str(out)) from None
-    if not out.is_dir():
-        raise OutputError("the output folder is not a folder", source=str(out))
+    out = make_dir(out)
     if not os.access(out, os.W_OK):
         raise OutputError("the output folder is not writable", source=str(out))
     return out
