@@ -165,3 +165,72 @@ def test_api_block_method_reports_cluster_note():
     assert any("cluster" in n for n in c.notes)
     pe = np.pi ** 2 * E * 8e-6 / 4.0 ** 2          # Timoshenko & Gere 1961, sec. 2.1
     np.testing.assert_allclose(c.load_factors * 1000 / pe, 1.0, rtol=2e-3)
+
+
+# ------------------------------------------------------------------ the default: ARPACK first
+
+
+def _solve_default(f, K, Gm, k):
+    from framebuckle.solver.verify import solve_checked
+    return solve_checked(f, K, Gm, k, source="test", case="c")
+
+
+@pytest.mark.parametrize("model", [lambda: columns(6, m=8), lambda: portal_grid(3, 3, m=4)])
+def test_default_method_finds_every_copy_of_a_repeat(model):
+    # 12 (columns) and 11+ (doubly symmetric grid) equal load factors: a single-vector run finds
+    # only some copies; the default hands such a result to the block method
+    f, K, Gm = matrices(*model())
+    assert K.shape[0] > 240                       # not the dense path
+    k = 10
+    ref = dense_load_factors(K, Gm, k + 1)        # LAPACK reference
+    assert ref[k - 1] / ref[0] - 1 < 1e-9         # the model's symmetry: a repeat through mode k
+    er, checks = _solve_default(f, K, Gm, k)
+    assert er.method == "block"
+    np.testing.assert_allclose(er.load_factors, ref[:k], rtol=1e-8)
+    assert checks["sturm_count"] >= k == checks["sturm_expected"]
+    gram = er.modes.T @ (K @ er.modes)
+    np.testing.assert_allclose(gram, np.eye(k), atol=1e-8)
+
+
+def _plane_frame_pencil():
+    """The scaled pencil of a 4-storey, 3-bay plane sway frame (distinct load factors)."""
+    from frames import sway_frame
+    r = fb.solve(sway_frame(storeys=4, bays=3), modes=1, subdivide=8, method="dense", mesh_check=False)
+    return r.pencil(r.cases[0].name)
+
+
+def test_default_method_is_arpack_without_repeats():
+    f, K, Gm = _plane_frame_pencil()
+    assert K.shape[0] > 240                       # not the dense path
+    k = 6
+    ref = dense_load_factors(K, Gm, k + 1)        # LAPACK reference
+    assert (np.diff(ref[: k + 1]) > 1e-5 * ref[1: k + 1]).all()     # no repeat
+    er, checks = _solve_default(f, K, Gm, k)
+    assert er.method == "arpack"
+    np.testing.assert_allclose(er.load_factors, ref[:k], rtol=1e-8)
+    assert checks["sturm_count"] == k and "retried" not in checks
+
+
+def test_a_load_factor_skipped_without_a_visible_repeat_is_solved_again(monkeypatch):
+    # ARPACK made to skip the lowest load factor (as a single-vector run can skip a copy of a
+    # repeated one without showing the repeat): the Sturm count of the check finds it and the
+    # case is solved again with the block method
+    from framebuckle.solver import solve as S
+    from framebuckle.solver import verify
+    real = S._lanczos
+
+    def skip_lowest(factor, Kff, Gff, k, v0, source, case):
+        er, _ = real(factor, Kff, Gff, k + 1, v0, source, case)
+        assert er is not None and er.method == "arpack"
+        keep = np.r_[1:k + 1]
+        return S.EigenResult(er.load_factors[keep], er.modes[:, keep], er.residuals[keep], False,
+                             "arpack"), None
+    monkeypatch.setattr(S, "_lanczos", skip_lowest)
+    monkeypatch.setattr(verify, "DENSE_RETRY", 0)           # the block method, not dense
+    f, K, Gm = _plane_frame_pencil()
+    k = 4
+    ref = dense_load_factors(K, Gm, k)
+    er, checks = _solve_default(f, K, Gm, k)
+    assert checks["retried"] == "block" and er.method == "block"
+    np.testing.assert_allclose(er.load_factors, ref[:k], rtol=1e-8)
+    assert checks["sturm_count"] == k

@@ -45,9 +45,18 @@ def q_pencil(moment_frame):
 
 def test_cluster_wider_than_the_basis_converges_in_the_block_solver(moment_frame):
     # used to end with "did not converge in 200 restarts (mode 2 of 2)" in case 'Q'
-    r = fb.solve(moment_frame, STUDY, modes=1, mesh_check=False)
+    r = fb.solve(moment_frame, STUDY, modes=1, mesh_check=False, method="block")
     for c in r.cases:
         assert c.method == "block"
+        fac, K, G = r.pencil(c.name)
+        assert c.alpha_cr == pytest.approx(dense_lambdas(K, G, 1)[0], rel=1e-8)   # scipy eigh
+
+
+def test_cluster_case_by_the_default_method_agrees_with_eigh(moment_frame):
+    # the default (ARPACK first, block method on a possible repeat) on the same clustered cases
+    r = fb.solve(moment_frame, STUDY, modes=1, mesh_check=False)
+    for c in r.cases:
+        assert c.method in ("arpack", "block")
         fac, K, G = r.pencil(c.name)
         assert c.alpha_cr == pytest.approx(dense_lambdas(K, G, 1)[0], rel=1e-8)   # scipy eigh
 

@@ -172,10 +172,6 @@ def test_iterative_solution_of_a_repeated_cluster_is_complete():
 # ------------------------------------------------------------------ Sturm counts in a second process
 
 
-def _api_module():
-    return sys.modules["framebuckle.pipeline.api"]
-
-
 @pytest.fixture
 def started(monkeypatch):
     """A list that gets an entry each time a SturmWorker (a second process) is started."""
@@ -208,13 +204,13 @@ def test_parallel_sturm_count_still_refuses_a_missed_load_factor(monkeypatch):
     """A result that skips the lowest load factor is refused when the count runs in the
     worker too (the count itself is computed there from the matrices sent)."""
     monkeypatch.setattr(verify, "PARALLEL_STURM_MIN", 0)
-    api = _api_module()
-    real = api.buckling_modes
+    from framebuckle.solver import solve as solver_solve
+    real = solver_solve.buckling_modes
 
     def skip_lowest(factor, Kff, Gff, k=4, **kw):
         er = real(factor, Kff, Gff, k + 1, **kw)
         return replace(er, load_factors=er.load_factors[1:], modes=er.modes[:, 1:], residuals=er.residuals[1:])
-    monkeypatch.setattr(api, "buckling_modes", skip_lowest)
+    monkeypatch.setattr(solver_solve, "buckling_modes", skip_lowest)   # verify.solve_checked calls it
     monkeypatch.setattr(verify, "DENSE_RETRY", 0)            # no dense second attempt
     with pytest.raises(SolverError, match="missed a load factor|Sturm"):
         fb.solve(portal(), modes=3, subdivide=2, sturm_worker=True)

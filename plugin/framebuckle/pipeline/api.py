@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 import time
 from dataclasses import replace
 from pathlib import Path
@@ -19,7 +20,7 @@ from ..io.read import InputModel, read_input
 from ..model.refine import subdivide as _subdivide
 from ..solver import pardiso as _pardiso
 from .results import CaseResult, Result, normalise_modes
-from ..solver.solve import buckling_modes, check_supported, factorize, find_constraints, scale_matrix
+from ..solver.solve import check_supported, factorize, find_constraints, scale_matrix
 from ..io.study import Study, load_study, study_from_dict
 from . import combosolve as _combos
 from .combosolve import FactoredGeometric, WarmStarts
@@ -239,35 +240,27 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             v0 = warm.start(case, Kc, Gff, k + 1)
             t3 = time.perf_counter()
             try:
+                # the eigensolution and its checks; a Sturm count that finds a missed copy of a
+                # repeated load factor has the case solved again (block method, or dense)
+                solve = functools.partial(verify.solve_checked, fac_c, Kc, Gff, k, method=method,
+                                          source=im.source, case=case.name, sturm=worker is None)
                 try:
-                    er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=v0, source=im.source,
-                                        case=case.name)
+                    er, checks = solve(v0=v0)
+                except verify.MissedLoadFactor:
+                    raise
                 except SolverError:
                     if v0 is None or v0 is warm.last:
                         raise
                     # the Ritz start of the nearest combinations stalled the block solver: start
                     # again from the last case's modes, as for plain cases
-                    er = buckling_modes(fac_c, Kc, Gff, k, method=method, v0=warm.last, source=im.source,
-                                        case=case.name)
+                    er, checks = solve(v0=warm.last)
                 t4 = time.perf_counter()
-                try:
-                    checks = verify.check_case(Kc, Gff, er, k, im.source, case.name,
-                                               sturm=worker is None)
-                except verify.MissedLoadFactor:
-                    if er.method == "dense" or len(free) > verify.DENSE_RETRY:
-                        raise
-                    # iterative solvers can skip copies of a repeated load factor: solve densely
-                    er = buckling_modes(fac_c, Kc, Gff, k, method="dense", source=im.source, case=case.name)
-                    checks = verify.check_case(Kc, Gff, er, k, im.source, case.name)
-                    checks["retried_dense"] = True
-                t5 = time.perf_counter()
                 # where the time of a case goes (benchmarks/combinations.py): basic Kg assembly,
-                # factored sum, warm start, eigensolution, checks (with any dense retry)
+                # factored sum, warm start, eigensolution with its checks (and any second solution)
                 timings["case_stages"].append({"basic_kg": gff.basic_seconds - b0,
                                                "kg": t2 - t1 - (gff.basic_seconds - b0),
-                                               "warm_start": t3 - t2, "eigensolution": t4 - t3,
-                                               "checks": t5 - t4})
-                if worker is not None and len(er.load_factors):
+                                               "warm_start": t3 - t2, "eigensolution": t4 - t3})
+                if worker is not None and len(er.load_factors) and "sturm_count" not in checks:
                     worker.submit(checks, Kc, Gff, er.load_factors, k, im.source, case.name)
             except SolverError as exc:
                 raise _explained(exc, warnings) from None
@@ -295,9 +288,10 @@ def run(im: InputModel, k: int, m: int, planar, method, progress=None, options=N
             if er.cluster_continues:
                 notes.append(f"load factor {er.load_factors[-1]:.6g} repeats beyond mode {k}: the cluster "
                              f"continues past the requested modes (ask for more with --modes)")
-            if checks.get("retried_dense"):
-                notes.append("the iterative eigensolver returned too few copies of a repeated load factor "
-                             "(found by the Sturm count); this case was solved again with the dense solver")
+            if checks.get("retried"):
+                notes.append(f"the iterative eigensolver returned too few copies of a repeated load factor "
+                             f"(found by the Sturm count); this case was solved again with the "
+                             f"{checks['retried']} solver")
             notes += _torsion_notes(asm, fine, axial, full, er.load_factors, im)
             modes = normalise_modes(full, fine.n_nodes, float(np.ptp(fine.nodes, axis=0).max()))
             if wmodes is not None:              # the same scale as the nodal part of each mode

@@ -29,8 +29,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .solve import buckling_modes
-from .verify import DENSE_RETRY, MissedLoadFactor, check_case, negative_count
+from .verify import negative_count, solve_checked
 
 #: most modes the upward search computes for one case (study: [checks] sway_search_modes)
 MAX_MODES = 60
@@ -78,15 +77,8 @@ def search_upward(factor, Kff, Gff, lam, vecs, wanted, bound: float, *, max_mode
     if k <= len(lam):
         top = float(lam[-1]) if len(lam) else None
         return Upward(lam, vecs, None, top, f"search stopped at {max_modes} modes", rec)
-    er = buckling_modes(factor, Kff, Gff, k, method=method, v0=vecs if vecs.size else None,
-                        source=source, case=case)
-    try:
-        check_case(Kff, Gff, er, k, source, case)
-    except MissedLoadFactor:
-        if er.method == "dense" or Kff.shape[0] > DENSE_RETRY:
-            raise
-        er = buckling_modes(factor, Kff, Gff, k, method="dense", source=source, case=case)
-        check_case(Kff, Gff, er, k, source, case)
+    er, _ = solve_checked(factor, Kff, Gff, k, method=method, v0=vecs if vecs.size else None,
+                          source=source, case=case)
     lam2, vec2 = np.asarray(er.load_factors, float), np.asarray(er.modes, float)
     i = _first(wanted(lam2, vec2)) if len(lam2) else None
     if i is not None:

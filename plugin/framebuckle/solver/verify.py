@@ -184,6 +184,40 @@ def check_case(Kff, Gff, er, k: int, source: str, case: str, sturm: bool = True)
     return out
 
 
+#: eigensolver results whose Sturm count is always made at once (a miss is solved again with
+#: the block method): single-vector Krylov runs, which can skip copies of a repeated value
+SINGLE_VECTOR = ("arpack", "arpack-shift")
+
+
+def solve_checked(factor, Kff, Gff, k: int, method: str = "auto", v0=None, source: str = "<model>",
+                  case: str = "", sturm: bool = True):
+    """``(EigenResult, checks)``: :func:`~framebuckle.solver.solve.buckling_modes` and
+    :func:`check_case`, solved again when the Sturm count finds a missed load factor.
+
+    A single-vector (ARPACK) result is always counted at once, whatever ``sturm``
+    says; on a miss it is solved again with the block method (which finds up to its
+    block size of copies of a repeated value), started from half of ARPACK's modes, or
+    densely when the model has at most :data:`DENSE_RETRY` free DOFs; a block result
+    that misses is solved densely within that size and refused above it.  ``sturm=False``
+    leaves the count of block and dense results to the caller (:class:`SturmWorker`).
+    ``checks["retried"]`` names the method of a second solution.
+    """
+    from .solve import block_start, buckling_modes
+    er = buckling_modes(factor, Kff, Gff, k, method=method, v0=v0, source=source, case=case)
+    try:
+        return er, check_case(Kff, Gff, er, k, source, case, sturm=sturm or er.method in SINGLE_VECTOR)
+    except MissedLoadFactor:
+        small = Kff.shape[0] <= DENSE_RETRY
+        if er.method == "dense" or (er.method not in SINGLE_VECTOR and not small):
+            raise
+    again = "dense" if small else "block"
+    er = buckling_modes(factor, Kff, Gff, k, method=again, v0=block_start(er.modes), source=source,
+                        case=case)
+    checks = check_case(Kff, Gff, er, k, source, case)
+    checks["retried"] = again
+    return er, checks
+
+
 def sturm_check(Kff, Gff, lam, k: int, source: str, case: str) -> dict:
     r"""Confirm with inertia counts that no load factor below the highest reported was missed."""
     lam = np.sort(np.asarray(lam, float))
