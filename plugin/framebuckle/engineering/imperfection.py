@@ -174,12 +174,10 @@ def scale_for(result, members, case_index: int, mode_index: int, eff, share, set
 
 
 def imperfect_grid(result, case_index: int, mode_index: int, scale: float):
-    """The input mesh (PyVista) with points moved by ``scale * mode``, a note if the bow is lost,
+    """The input mesh (a :class:`framebuckle.io.vtu.Grid`) with points moved by ``scale * mode``, a note if the bow is lost,
     and the largest translation applied to an input point."""
-    import copy
-
-    import pyvista as pv
-    grid = pv.from_meshio(copy.deepcopy(result.input.mesh))
+    from ..io.vtu import from_meshio
+    grid = from_meshio(result.input.mesh)           # a copy of the input's points and data
     n = result.model.n_nodes
     mode = result.cases[case_index].modes[mode_index]
     d = scale * np.asarray(mode[:n, :3])

@@ -2,16 +2,15 @@
 
 Every output is written to a temporary file in the target folder and renamed
 into place, so an interrupted run leaves either the old file or the complete
-new one.  Inputs are never written.  VTU files are written with VTK's XML
-writer (it keeps field data, which meshio's VTU writer drops) into memory and
-then to the file by Python, so a full disk is an ``OSError`` and never an abort
-inside VTK.  A command's outputs are written together, all or nothing
+new one.  Inputs are never written.  VTU files are encoded in memory by
+:mod:`framebuckle.io.vtu` (it keeps field data, which meshio's VTU writer drops; VTK's
+XML writer for PyVista grids) and then written to the file by Python, so a full disk is an
+``OSError`` and never an abort inside a library.  A command's outputs are written together, all or nothing
 (:class:`framebuckle.io.outputs.OutputSet`).
 """
 
 from __future__ import annotations
 
-import copy
 import json
 import os
 from contextlib import contextmanager
@@ -79,11 +78,9 @@ def mode_field_name(case: str, k: int, n_cases: int, rotation: bool = False) -> 
 
 
 def input_grid(result):
-    """PyVista grid of the input mesh (a copy) with mode fields and load factors."""
-    import pyvista as pv
-    mesh = copy.deepcopy(result.input.mesh)
-    # pyvista cannot convert meshio's gmsh bookkeeping with strings; keep numeric data only
-    grid = pv.from_meshio(mesh)
+    """Grid of the input mesh (its numeric data, a copy) with mode fields and load factors."""
+    from .vtu import from_meshio
+    grid = from_meshio(result.input.mesh)
     n = result.input.frame.n_nodes
     nc = len(result.cases)
     for c in result.cases:
@@ -96,12 +93,10 @@ def input_grid(result):
 
 
 def fine_grid(result):
-    """PyVista grid of the refined model with modes and the input cell of each element."""
-    import pyvista as pv
+    """Grid of the refined model with modes and the input cell of each element."""
+    from .vtu import line_grid
     f = result.fine
-    e = f.elements
-    cells = np.column_stack([np.full(len(e), 2), e]).ravel()
-    grid = pv.UnstructuredGrid(cells, np.full(len(e), pv.CellType.LINE, np.uint8), np.asarray(f.nodes))
+    grid = line_grid(f.nodes, f.elements)
     grid.cell_data["cell_id"] = np.asarray(result.input.cell_ids[result.refined.element_map])
     grid.cell_data["bar"] = np.asarray(f.bar, np.uint8)   # pictures draw bars straight
     nc = len(result.cases)
@@ -149,7 +144,12 @@ def case_names(field_data) -> list[str] | None:
 
 
 def vtu_bytes(grid) -> bytes:
-    """The grid as a VTU file in memory (raw appended binary, no compression)."""
+    """The grid as a VTU file in memory (raw appended binary, no compression): a
+    :class:`framebuckle.io.vtu.Grid` by our own encoder, a PyVista grid by VTK's XML writer."""
+    from .vtu import Grid
+    from .vtu import vtu_bytes as encode
+    if isinstance(grid, Grid):
+        return encode(grid)
     from vtkmodules.vtkIOXML import vtkXMLUnstructuredGridWriter
     w = vtkXMLUnstructuredGridWriter()
     w.SetInputData(grid)
