@@ -291,15 +291,20 @@ def cmd_check(args) -> int:
     from .engineering.check import run_check
     from .io.write import _jsonable
     from .io.outputs import folder_lock
+    from .io.progress import Progress
     from .io.write import output_stem
     study = _as_study(args.study)
     with folder_lock(args.out, args.force) as out:
         stem = output_stem(args.input)
         _precheck(out, [f"{stem}.{x}" for x in ("modes.vtu", "modes_fine.vtu", "summary.json",
                                                   "members.csv")], args)
-        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
-        report = run_check(result, study, args.min_alpha)
-        paths = write_check(result, report, out, force=args.force)
+        with Progress(0, "solve") as bar:      # drawn only on a terminal
+            result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
+                           sturm_worker=True, progress=bar)
+        with Progress(len(result.cases) + 1 + 5, "check") as bar:   # cases, imperfection, files
+            report = run_check(result, study, args.min_alpha, progress=bar)
+            bar.total -= report.imperfection_mode is None         # no imperfect mesh to write
+            paths = write_check(result, report, out, force=args.force, progress=bar)
         for w in result.warnings:
             print(f"framebuckle: warning: {w}", file=sys.stderr)
         if report.summary["check"].get("sign_convention"):

@@ -95,8 +95,14 @@ def _judge_fy(result, st: dict, src) -> None:
                   "[checks] fy (default for cells without their own fy, against their median E)", src)
 
 
-def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
-    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.pipeline.results.Result`."""
+def run_check(result, study: Study | None = None, min_alpha: float | None = None,
+              progress=None) -> CheckReport:
+    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.pipeline.results.Result`.
+
+    ``progress``: called with a short text after each case and after the imperfection
+    (``len(result.cases) + 1`` calls), e.g. a :class:`framebuckle.io.progress.Progress`.
+    """
+    step = progress or (lambda what: None)
     study = study or Study()
     st = _settings(study)
     _validate_settings(st, study.source)
@@ -130,6 +136,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     for c in result.cases:
         ok, row = _case(ctx, c, by_name[c.name], rows, fields)
         table.append(row)
+        step(f"case {c.name}")
     tension = _all_tension(result, st)
     if tension:         # a sign slip must not pass as "no compressive instability"
         for c in summary["cases"]:
@@ -137,6 +144,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
         table = [row[:6] + (False,) + row[7:] for row in table]      # item 6 is "passed"
     passed = all(c["passed"] for c in summary["cases"])
     imp_info, imp_mode = _imperfection(result, study, members, ctx["fy"], ctx["mof"], result.fine)
+    step("imperfection")
     tl, sl, cut = ctx["limits"]
     summary["check"] = {
         "passed": bool(passed), "min_alpha": gate,

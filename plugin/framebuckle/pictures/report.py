@@ -92,13 +92,19 @@ def verdict_band(alpha, thresholds=(3.0, 10.0, 15.0)) -> str:
     return BAND_LABELS[i].format(*thresholds)
 
 
-def _check(result, study):
-    """The engineering check if that stage is installed, else None."""
+def _check_stage():
+    """The engineering check's ``run_check`` if that stage is installed, else None."""
     try:
         from ..engineering.check import run_check
     except ImportError:
         return None
-    return run_check(result, study)
+    return run_check
+
+
+def _check(result, study, progress=None):
+    """The engineering check if that stage is installed, else None."""
+    run_check = _check_stage()
+    return None if run_check is None else run_check(result, study, progress=progress)
 
 
 # ---------------------------------------------------------------- document
@@ -318,20 +324,24 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
     target = out / f"{stem}.report.html"
     protect = [result.input.source] if result.input.source and not result.input.source.startswith("<") else []
     check_target(target, force, protect)       # before any drawing
-    check = _check(result, study)
-    ms = from_result(result)
     with_modes = [c for c in result.cases if c.alpha_cr is not None]
-    pictures = {}
-    no_pictures = None
-    if with_modes:
-        try:
-            render.gl_probe()
-        except OutputError as exc:
-            no_pictures = str(exc).split(": ", 1)[-1]
-            with_modes = []
-            if skipped is not None:
-                skipped.append(no_pictures)
-    with (progress or Progress(len(with_modes) + 2, "report")) as bar:
+    # steps: each case checked + imperfection, the GL probe, one picture per case, two plots, the file
+    n_check = len(result.cases) + 1 if _check_stage() else 0
+    total = n_check + (1 + len(with_modes) if with_modes else 0) + 3
+    with (progress or Progress(total, "report")) as bar:
+        check = _check(result, study, progress=bar)
+        ms = from_result(result)
+        pictures = {}
+        no_pictures = None
+        if with_modes:
+            try:
+                render.gl_probe()
+            except OutputError as exc:
+                no_pictures = str(exc).split(": ", 1)[-1]
+                with_modes = []
+                if skipped is not None:
+                    skipped.append(no_pictures)
+            bar.step("off-screen window")
         for c in with_modes:
             img = render.render_mode(ms, c.name, 1, scale=None, window=window, return_img=True)
             pictures[c.name] = _png(img)
@@ -345,7 +355,8 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
         if member:
             figs.append(member)
         bar.step("plots")
-    write_text(target, build_html(result, pictures, figs, check, no_pictures=no_pictures), True, protect)
+        write_text(target, build_html(result, pictures, figs, check, no_pictures=no_pictures), True, protect)
+        bar.step(target.name)
     return target
 
 
