@@ -127,24 +127,27 @@ def test_report_shows_a_step_for_the_check_each_picture_the_plots_and_the_file(s
     whats = [w for _, _, w in steps]
     cases = [c.name for c in solved.cases]
     for name in cases:
-        assert f"case {name}" in whats and f"picture {name}" in whats
+        assert f"picture {name}" in whats
+        assert f"case {name}: members and effective lengths" in whats
+        assert f"case {name}: sway search and verdicts" in whats
     assert "imperfection" in whats and "off-screen window" in whats and path.name in whats
     done, total, _ = steps[-1]
-    assert done == total == len(cases) + 1 + 1 + len(cases) + 3       # every step counted
+    assert done == total == 2 * len(cases) + 1 + 1 + len(cases) + 3   # every step counted
 
 
 def test_report_progress_written_to_a_given_stream(solved, tmp_path):
     buf = io.StringIO()
     with Progress(0, "report", stream=buf, show=True) as bar:
         report.make_report(solved, tmp_path, stem="q", window=(320, 240), progress=bar)
-    # 2 cases checked + imperfection, the window probe, 2 pictures, 2 plots, the file
-    assert bar.done == 3 + 1 + 2 + 2 + 1 and "picture wind" in buf.getvalue()
+    # 2 cases checked (2 steps each) + imperfection, the window probe, 2 pictures, 2 plots, the file
+    assert bar.done == 5 + 1 + 2 + 2 + 1 and "picture wind" in buf.getvalue()
 
 
 def test_check_progress_one_step_per_case_and_file(solved, tmp_path):
     said = []
     rep = run_check(solved, progress=said.append)
-    assert said == [f"case {c.name}" for c in solved.cases] + ["imperfection"]
+    assert said == [f"case {c.name}: {what}" for c in solved.cases for what in
+                    ("members and effective lengths", "sway search and verdicts")] + ["imperfection"]
     said.clear()
     paths = write_check(solved, rep, tmp_path, progress=said.append)
     assert said == [paths[k].name for k in ("modes", "modes_fine", "members")
