@@ -91,8 +91,15 @@ def test_curves_and_drawn_shape_built_once_per_mode_for_all_four_views(portal, m
 def test_animation_computes_the_curves_once(portal, monkeypatch):
     monkeypatch.setattr(render, "TUBE_LIMIT", 0)
     calls, made = _spy_curves(monkeypatch), _spy_shapes(monkeypatch)
-    render.animation_bytes(portal, "gravity", 1, frames=4, window=(160, 120))
+    gif = render.animation_bytes(portal, "gravity", 1, frames=4, window=(240, 180))
     assert len(calls) == 1 and made == [False]     # lines: one actor, moved in place
+    from PIL import Image
+    im = Image.open(io.BytesIO(gif))
+    frames = []
+    for i in (0, 2):                               # +amplitude and -amplitude
+        im.seek(i)
+        frames.append(np.asarray(im.convert("RGB"), int))
+    assert (np.abs(frames[0] - frames[1]).max(axis=-1) > 40).mean() > 0.003   # the shape moved
 
 
 def test_line_pictures_are_not_blank_are_coloured_and_differ_between_modes(portal, monkeypatch):

@@ -310,10 +310,14 @@ def animation_bytes(ms, case=None, k: int = 1, scale=None, frames: int = 16,
         p.add_text(title(c, k), position="upper_left", font_size=8, color="black")
         flat = pts0.reshape(-1, 3)
         move = (s * disp).reshape(-1, 3)
+        acts = None
         for i, phase in enumerate(np.cos(2 * np.pi * np.arange(frames) / frames)):
-            curve.points = flat + phase * move               # the same curve, moved
-            if i == 0 or tubes:
-                _draw(p, base, curve, ms.size, clim, tubes=tubes)
+            if acts is None or tubes:
+                curve.points = flat + phase * move
+                acts = _draw(p, base, curve, ms.size, clim, tubes=tubes)
+            else:                                           # lines: the drawn curve, moved
+                acts[1].mapper.dataset.points = flat + phase * move
+                p.render()
             if i == 0:
                 _camera(p, "iso")
                 p.reset_camera(bounds=_bounds(pts0, s * disp))
