@@ -320,12 +320,13 @@ def cmd_check(args) -> int:
             print(f"framebuckle: warning: {w}", file=sys.stderr)
         if report.summary["check"].get("sign_convention"):
             print(f"framebuckle: {report.summary['check']['sign_convention']}", file=sys.stderr)
-    if getattr(args, "timings", False):
-        print(f"timings [s]: solve {tm['solve'] - tm['start']:.3f}, check {tm['check'] - tm['solve']:.3f}, "
-              f"write {tm['write'] - tm['check']:.3f}", file=sys.stderr)
+    times = (f"timings [s]: solve {tm['solve'] - tm['start']:.3f}, check {tm['check'] - tm['solve']:.3f}, "
+             f"write {tm['write'] - tm['check']:.3f}" if getattr(args, "timings", False) else None)
     if args.json:
         json.dump(report.summary, sys.stdout, indent=2, default=_jsonable)
         print()
+        if times:
+            print(times, file=sys.stderr)     # standard output stays JSON
         return report.exit_code
     s = report.summary
     m = s["model"]
@@ -350,6 +351,8 @@ def cmd_check(args) -> int:
           f"{'all cases pass' if report.passed else 'FAILED'}")
     print("wrote: " + ", ".join(str(p) for p in paths.values()))
     print("caution: " + " ".join(CAUTIONS))
+    if times:
+        print(times)
     return report.exit_code
 
 
