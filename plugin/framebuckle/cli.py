@@ -147,6 +147,7 @@ def cmd_view(args) -> int:
 
 
 def cmd_report(args) -> int:
+    import time
     from .pipeline.api import solve
     from .io.outputs import folder_lock
     from .io.progress import Progress
@@ -156,12 +157,17 @@ def cmd_report(args) -> int:
     study = (load_study(args.study) if isinstance(args.study, str) else args.study) if args.study else None
     with folder_lock(args.out, args.force) as out:
         _precheck(out, [f"{output_stem(args.input)}.report.html"], args)
+        t = time.perf_counter()
         with Progress(0, "solve") as bar:
             result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
                            sturm_worker=True, progress=bar)
-        skipped = []
-        path = make_report(result, out, study=study, force=args.force, skipped=skipped)
+        skipped, tm = [], {"solve": time.perf_counter() - t}
+        path = make_report(result, out, study=study, force=args.force, skipped=skipped, timings=tm)
     print_result(result, {"report": path})
+    if getattr(args, "timings", False):
+        print(f"timings [s]: solve {tm['solve']:.3f}, check {tm.get('check', 0):.3f}, pictures "
+              f"[{', '.join(f'{x:.3f}' for x in tm.get('pictures', []))}], plots {tm.get('plots', 0):.3f}, "
+              f"write {tm.get('write', 0):.3f}")
     for why in skipped:
         print(f"framebuckle: warning: the report was written without pictures: {why}", file=sys.stderr)
     return 0
@@ -285,28 +291,42 @@ def _terminate(signum, frame):
 def cmd_check(args) -> int:
     """Exit 0 when every case passes, 1 when any fails (2 on bad input, from main)."""
     import json
+    import time
 
     from .pipeline.api import _as_study, solve
     from .engineering.checkfiles import format_table, write_check
     from .engineering.check import run_check
     from .io.write import _jsonable
     from .io.outputs import folder_lock
+    from .io.progress import Progress
     from .io.write import output_stem
     study = _as_study(args.study)
     with folder_lock(args.out, args.force) as out:
         stem = output_stem(args.input)
         _precheck(out, [f"{stem}.{x}" for x in ("modes.vtu", "modes_fine.vtu", "summary.json",
                                                   "members.csv")], args)
-        result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide, sturm_worker=True)
-        report = run_check(result, study, args.min_alpha)
-        paths = write_check(result, report, out, force=args.force)
+        tm = {"start": time.perf_counter()}
+        with Progress(0, "solve") as bar:      # drawn only on a terminal
+            result = solve(args.input, study, modes=args.modes, subdivide=args.subdivide,
+                           sturm_worker=True, progress=bar)
+        tm["solve"] = time.perf_counter()
+        with Progress(2 * len(result.cases) + 1 + 5, "check") as bar:   # cases, imperfection, files
+            report = run_check(result, study, args.min_alpha, progress=bar)
+            tm["check"] = time.perf_counter()
+            bar.total -= report.imperfection_mode is None         # no imperfect mesh to write
+            paths = write_check(result, report, out, force=args.force, progress=bar)
+            tm["write"] = time.perf_counter()
         for w in result.warnings:
             print(f"framebuckle: warning: {w}", file=sys.stderr)
         if report.summary["check"].get("sign_convention"):
             print(f"framebuckle: {report.summary['check']['sign_convention']}", file=sys.stderr)
+    times = (f"timings [s]: solve {tm['solve'] - tm['start']:.3f}, check {tm['check'] - tm['solve']:.3f}, "
+             f"write {tm['write'] - tm['check']:.3f}" if getattr(args, "timings", False) else None)
     if args.json:
         json.dump(report.summary, sys.stdout, indent=2, default=_jsonable)
         print()
+        if times:
+            print(times, file=sys.stderr)     # standard output stays JSON
         return report.exit_code
     s = report.summary
     m = s["model"]
@@ -331,6 +351,8 @@ def cmd_check(args) -> int:
           f"{'all cases pass' if report.passed else 'FAILED'}")
     print("wrote: " + ", ".join(str(p) for p in paths.values()))
     print("caution: " + " ".join(CAUTIONS))
+    if times:
+        print(times)
     return report.exit_code
 
 

@@ -95,8 +95,15 @@ def _judge_fy(result, st: dict, src) -> None:
                   "[checks] fy (default for cells without their own fy, against their median E)", src)
 
 
-def run_check(result, study: Study | None = None, min_alpha: float | None = None) -> CheckReport:
-    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.pipeline.results.Result`."""
+def run_check(result, study: Study | None = None, min_alpha: float | None = None,
+              progress=None) -> CheckReport:
+    """Everything the ``check`` command reports, from a solved :class:`~framebuckle.pipeline.results.Result`.
+
+    ``progress``: called with a short text twice per case (members and effective lengths; then the
+    sway search and verdicts) and after the imperfection (``2 * len(result.cases) + 1`` calls), e.g.
+    a :class:`framebuckle.io.progress.Progress`.
+    """
+    step = progress or (lambda what: None)
     study = study or Study()
     st = _settings(study)
     _validate_settings(st, study.source)
@@ -118,6 +125,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
                    float(st.get("energy_cut", ENERGY_CUT))),
         "cells": _cells_text(members, im.cell_ids), "settings": st,
         "bound": max(gate, codecheck.first_order_limit(st)),
+        "step": lambda name: step(f"case {name}: members and effective lengths"),
         "levels": storeydrift.floor_levels(result.model, [s["level"] for s in storeys if "level" in s]),
         "suffix": (lambda name: "") if len(result.cases) == 1 and result.cases[0].name == "default"
         else (lambda name: f".{name}"),
@@ -130,6 +138,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
     for c in result.cases:
         ok, row = _case(ctx, c, by_name[c.name], rows, fields)
         table.append(row)
+        step(f"case {c.name}: sway search and verdicts")
     tension = _all_tension(result, st)
     if tension:         # a sign slip must not pass as "no compressive instability"
         for c in summary["cases"]:
@@ -137,6 +146,7 @@ def run_check(result, study: Study | None = None, min_alpha: float | None = None
         table = [row[:6] + (False,) + row[7:] for row in table]      # item 6 is "passed"
     passed = all(c["passed"] for c in summary["cases"])
     imp_info, imp_mode = _imperfection(result, study, members, ctx["fy"], ctx["mof"], result.fine)
+    step("imperfection")
     tl, sl, cut = ctx["limits"]
     summary["check"] = {
         "passed": bool(passed), "min_alpha": gate,
@@ -185,6 +195,7 @@ def _case(ctx, c, entry, rows, fields):
     st = ctx["settings"]
     member_min = float(st.get("member_min_alpha", MEMBER_MIN_ALPHA))
     if c.status != "ok":
+        ctx["step"](c.name)
         ok, verdicts, extra, _ = verdicts_of(c, None, st, ctx["storeys"], ctx["gate"], member_min)
         entry.update({"passed": ok, "verdicts": verdicts, **extra})
         N, _ = member_forces(frame, members, axial)
@@ -234,6 +245,7 @@ def _case(ctx, c, entry, rows, fields):
                               f"{', '.join(str(x) for x in ng[:10])}{' ...' if len(ng) > 10 else ''}; their "
                               f"effective lengths are not known: ask for more modes (--modes)")
     first = modes_out[0]
+    ctx["step"](c.name)
     sw = lowest_sway(result, c, part, fine_axial, members, mof, ctx["limits"], ctx["bound"],
                      int(st.get("sway_search_modes", MAX_MODES)))
     ok, verdicts, extra, vnotes = verdicts_of(c, sw, st, ctx["storeys"], ctx["gate"], member_min)

@@ -11,13 +11,23 @@ from ..errors import OutputError
 from .check import CSV_COLUMNS, CheckReport
 from .imperfection import imperfect_grid
 
+COLUMN_SET = frozenset(CSV_COLUMNS)
+
+
+def _cell(v):
+    return "" if v is None else (f"{v:.10g}" if isinstance(v, float) else v)
+
 
 def members_csv(rows) -> str:
+    """The rows (dicts with keys of CSV_COLUMNS) as CSV text, floats with 10 significant digits."""
     buf = io.StringIO()
-    w = csv.DictWriter(buf, fieldnames=CSV_COLUMNS, lineterminator="\n")
-    w.writeheader()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(CSV_COLUMNS)
     for r in rows:
-        w.writerow({k: ("" if v is None else (f"{v:.10g}" if isinstance(v, float) else v)) for k, v in r.items()})
+        extra = r.keys() - COLUMN_SET
+        if extra:
+            raise ValueError(f"members CSV: unknown column(s) {sorted(extra)}")
+    w.writerows([_cell(r.get(k)) for k in CSV_COLUMNS] for r in rows)
     return buf.getvalue()
 
 
@@ -31,8 +41,12 @@ def format_table(report: CheckReport) -> str:
     return "\n".join([line(head), "-" * (sum(w) + 2 * (len(w) - 1))] + [line(r) for r in rows])
 
 
-def write_check(result, report: CheckReport, out_dir, force: bool = False) -> dict:
-    """Write modes (with member cell fields), fine modes, summary, members CSV, imperfect mesh."""
+def write_check(result, report: CheckReport, out_dir, force: bool = False, progress=None) -> dict:
+    """Write modes (with member cell fields), fine modes, summary, members CSV, imperfect mesh.
+
+    ``progress``: called with a short text after each file is made (4 or 5 calls).
+    """
+    step = progress or (lambda what: None)
     from ..io.outputs import OutputSet
     from ..io.write import fine_grid, input_grid, json_text, output_stem, prepare_dir, vtu_bytes
     out = prepare_dir(Path(out_dir))
@@ -59,11 +73,16 @@ def write_check(result, report: CheckReport, out_dir, force: bool = False) -> di
             report.imperfection["note"] = note
     with outs:                    # all or nothing
         outs.write_bytes(paths["modes"], vtu_bytes(grid))
+        step(paths["modes"].name)
         outs.write_bytes(paths["modes_fine"], vtu_bytes(fine_grid(result)))
+        step(paths["modes_fine"].name)
         outs.write_text(paths["members"], members_csv(report.rows))
+        step(paths["members"].name)
         if report.imperfection_mode is not None:
             outs.write_bytes(paths["imperfect"], vtu_bytes(igrid))
+            step(paths["imperfect"].name)
         summary["outputs"] = {k: str(v) for k, v in paths.items()}
         outs.write_text(paths["summary"], json_text(summary))
+        step(paths["summary"].name)
         outs.commit()
     return paths

@@ -3,7 +3,10 @@
 One picture per mode holds four views (isometric, plan X-Y, elevations X-Z
 and Y-Z; Z is up).  The undeformed structure is drawn thin and grey; the
 buckled shape as tubes along the cubic Hermite curve of every element
-(:mod:`framebuckle.pictures.shapes`), coloured by the displacement magnitude of the
+(:mod:`framebuckle.pictures.shapes`); above :data:`TUBE_LIMIT` drawn elements as wide lines
+with fewer points per element (:func:`samples_for`), which draw in a fraction of the time and
+memory and look the same at picture size.  The curve is built once per mode, and the four views
+share one actor in one render window.  It is coloured by the displacement magnitude of the
 normalised mode (largest node translation = 1) with the colour-blind-safe
 ``viridis`` map and a labelled colour bar.  The shape is scaled so that its
 largest displacement is :data:`AUTO_SCALE` of the model size (largest extent
@@ -40,6 +43,12 @@ GREY = "#8c8c8c"
 #: largest drawn translation of a normalised mode below which it is a twist only
 TWIST_ONLY = 1e-6
 BAR_TITLE = "displacement magnitude (largest node = 1)"
+#: drawn elements above which the buckled shape is drawn as wide lines instead of tubes
+TUBE_LIMIT = 3000
+#: points along the drawn curves of a model drawn with lines (fewer samples per element)
+POINT_BUDGET = 60_000
+#: width of the buckled shape drawn as lines [pixels]
+LINE_WIDTH = 3.0
 
 
 def has_display() -> bool:
@@ -82,19 +91,45 @@ def polylines(points: np.ndarray):
     return pv.PolyData(points.reshape(-1, 3), lines=lines)
 
 
+def drawn_as_tubes(n_elements: int) -> bool:
+    """True when the buckled shape is drawn as tubes (small models), False for wide lines."""
+    return int(n_elements) <= TUBE_LIMIT
+
+
+def samples_for(n_elements: int) -> int:
+    """Points per element along the drawn curve: all of DEFAULT_SAMPLES on a model drawn with
+    tubes, fewer (at least 3, a mid-point) on a large one, about POINT_BUDGET points in all."""
+    from .shapes import DEFAULT_SAMPLES
+    if drawn_as_tubes(n_elements):
+        return DEFAULT_SAMPLES
+    return int(min(DEFAULT_SAMPLES, max(3, POINT_BUDGET // max(int(n_elements), 1))))
+
+
 def shape_meshes(ms, mode: np.ndarray, scale: float | None = None, samples: int | None = None):
     """Undeformed lines, deformed curve (PolyData with ``|u|``) and the scale used."""
+    base, curve, s, _ = mode_meshes(ms, mode, scale, samples)
+    return base, curve, s
+
+
+def mode_meshes(ms, mode: np.ndarray, scale: float | None = None, samples: int | None = None):
+    """Undeformed lines, deformed curve, scale and the (points, displacements) they came from
+    (the mode's curves are computed once here)."""
     from .shapes import DEFAULT_SAMPLES
     pts, disp = ms.curves(mode, samples or DEFAULT_SAMPLES)
     s = auto_scale(ms.size, disp) if scale is None else float(scale)
     base = polylines(pts[:, [0, -1], :])
     curve = polylines(pts + s * disp)
     curve.point_data["|u|"] = np.linalg.norm(disp, axis=-1).reshape(-1)
-    return base, curve, s
+    return base, curve, s, (pts, disp)
 
 
 def tube_radius(size: float) -> float:
     return 0.004 * size
+
+
+def drawn_shape(curve, size: float, tubes: bool):
+    """The mesh drawn for the buckled shape: tubes around the curve, or the curve itself."""
+    return curve.tube(radius=tube_radius(size), n_sides=10, capping=True) if tubes else curve
 
 
 # ---------------------------------------------------------------- pictures
@@ -165,21 +200,35 @@ def _plotter(shape=(1, 1), window=WINDOW):
                           source="render") from None
 
 
-def _draw(p, base, curve, size, clim, scalar_bar=False):
-    r = tube_radius(size)
-    p.add_mesh(base, color=GREY, line_width=1.5, name="base")
-    tubes = curve.tube(radius=r, n_sides=10, capping=True)
-    kw = {}
+BAR_ARGS = {"title": " ", "n_labels": 5, "fmt": "%.2f", "vertical": False, "position_x": 0.2,
+            "position_y": 0.015, "width": 0.6, "height": 0.1, "title_font_size": 14,
+            "label_font_size": 12, "color": "black"}
+
+
+def _draw(p, base, curve, size, clim, scalar_bar=False, shape=None, tubes=True, share=None):
+    """Add the grey structure and the buckled shape to the active view; return their actors.
+
+    ``shape``: the mesh to draw (default: tubes around ``curve``, built here); ``tubes``: False
+    draws ``shape`` as wide lines; ``share``: actors of another view of the same window, reused
+    (one mapper and one copy of the data for all views).
+    """
+    if share is not None:
+        acts = tuple(p.add_actor(a, reset_camera=False, name=n) for a, n in zip(share, ("base", "shape")))
+        acts = tuple(a[0] if isinstance(a, tuple) else a for a in acts)
+    else:
+        if shape is None:
+            shape = drawn_shape(curve, size, tubes)
+        b = p.add_mesh(base, color=GREY, line_width=1.5 if tubes else 1.0, name="base")
+        kw = {"smooth_shading": True} if tubes else {"line_width": LINE_WIDTH}
+        a = p.add_mesh(shape, scalars="|u|", cmap=CMAP, clim=clim, show_scalar_bar=False,
+                       name="shape", **kw)
+        acts = (b, a)
     if scalar_bar:
-        kw["scalar_bar_args"] = {"title": " ", "n_labels": 5,
-                                 "fmt": "%.2f", "vertical": False, "position_x": 0.2,
-                                 "position_y": 0.015, "width": 0.6, "height": 0.1,
-                                 "title_font_size": 14, "label_font_size": 12, "color": "black"}
-    p.add_mesh(tubes, scalars="|u|", cmap=CMAP, clim=clim, show_scalar_bar=scalar_bar,
-               name="shape", smooth_shading=True, **kw)
-    if scalar_bar:      # the bar's own title collides with its labels: a text above it instead
+        p.add_scalar_bar(mapper=acts[1].mapper, **BAR_ARGS)
+        # the bar's own title collides with its labels: a text above it instead
         p.add_text(BAR_TITLE, position=(0.2, 0.125), viewport=True, font_size=7, color="black",
                    name="bar_title")
+    return acts
 
 
 def _camera(p, view):
@@ -194,14 +243,18 @@ def render_mode(ms, case=None, k: int = 1, path=None, scale=None, window=WINDOW,
                 return_img: bool = False):
     """Write a four-view PNG of mode ``k`` (1-based) of ``case``; return its path (or the image)."""
     c, mode = ms.mode(case, k)
-    base, curve, s = shape_meshes(ms, mode, scale)
+    tubes = drawn_as_tubes(len(ms.elements))
+    base, curve, s, _ = mode_meshes(ms, mode, scale, samples_for(len(ms.elements)))
+    shape = drawn_shape(curve, ms.size, tubes)            # once, for all four views
     clim = [0.0, max(float(curve.point_data["|u|"].max()), 1e-12)]
     p = _plotter((2, 2), window)
     try:
         p.set_background("white")
+        acts = None
         for i, (label, view) in enumerate(VIEWS):
             p.subplot(i // 2, i % 2)
-            _draw(p, base, curve, ms.size, clim, scalar_bar=(i == 3))
+            acts = _draw(p, base, curve, ms.size, clim, scalar_bar=(i == 3), shape=shape, tubes=tubes,
+                         share=acts)
             p.add_text(label, position="upper_right", font_size=8, color="black")
             if i == 0:
                 note = f"\nshape scale {s:.3g}"
@@ -247,18 +300,24 @@ def animation_bytes(ms, case=None, k: int = 1, scale=None, frames: int = 16,
 
     from PIL import Image
     c, mode = ms.mode(case, k)
-    base, curve, s = shape_meshes(ms, mode, scale)
-    pts0, disp = ms.curves(mode)
+    tubes = drawn_as_tubes(len(ms.elements))
+    base, curve, s, (pts0, disp) = mode_meshes(ms, mode, scale, samples_for(len(ms.elements)))
     clim = [0.0, max(float(curve.point_data["|u|"].max()), 1e-12)]
     p = _plotter((1, 1), window)
     images = []
     try:
         p.set_background("white")
         p.add_text(title(c, k), position="upper_left", font_size=8, color="black")
+        flat = pts0.reshape(-1, 3)
+        move = (s * disp).reshape(-1, 3)
+        acts = None
         for i, phase in enumerate(np.cos(2 * np.pi * np.arange(frames) / frames)):
-            cur = polylines(pts0 + phase * s * disp)
-            cur.point_data["|u|"] = curve.point_data["|u|"]
-            _draw(p, base, cur, ms.size, clim)
+            if acts is None or tubes:
+                curve.points = flat + phase * move
+                acts = _draw(p, base, curve, ms.size, clim, tubes=tubes)
+            else:                                           # lines: the drawn curve, moved
+                acts[1].mapper.dataset.points = flat + phase * move
+                p.render()
             if i == 0:
                 _camera(p, "iso")
                 p.reset_camera(bounds=_bounds(pts0, s * disp))

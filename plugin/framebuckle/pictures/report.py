@@ -23,6 +23,7 @@ from __future__ import annotations
 import base64
 import datetime as _dt
 import html
+import time
 from pathlib import Path
 
 import numpy as np
@@ -92,13 +93,19 @@ def verdict_band(alpha, thresholds=(3.0, 10.0, 15.0)) -> str:
     return BAND_LABELS[i].format(*thresholds)
 
 
-def _check(result, study):
-    """The engineering check if that stage is installed, else None."""
+def _check_stage():
+    """The engineering check's ``run_check`` if that stage is installed, else None."""
     try:
         from ..engineering.check import run_check
     except ImportError:
         return None
-    return run_check(result, study)
+    return run_check
+
+
+def _check(result, study, progress=None):
+    """The engineering check if that stage is installed, else None."""
+    run_check = _check_stage()
+    return None if run_check is None else run_check(result, study, progress=progress)
 
 
 # ---------------------------------------------------------------- document
@@ -300,8 +307,12 @@ def _cautions(w):
 
 
 def make_report(result, out_dir, stem: str | None = None, study=None, force: bool = True,
-                window=(1000, 750), progress=None, skipped: list | None = None) -> Path:
+                window=(1000, 750), progress=None, skipped: list | None = None,
+                timings: dict | None = None) -> Path:
     """Render the pictures and plots, assemble and write ``<stem>.report.html``; return its path.
+
+    ``timings``: a dict given here gets the seconds of ``check``, each of the ``pictures``,
+    the ``plots`` and the ``write``.
 
     When no off-screen window can be made (:func:`framebuckle.pictures.render.gl_probe`) the report is
     written without the mode pictures, says so, and the reason is appended to ``skipped``.
@@ -318,23 +329,37 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
     target = out / f"{stem}.report.html"
     protect = [result.input.source] if result.input.source and not result.input.source.startswith("<") else []
     check_target(target, force, protect)       # before any drawing
-    check = _check(result, study)
-    ms = from_result(result)
     with_modes = [c for c in result.cases if c.alpha_cr is not None]
-    pictures = {}
-    no_pictures = None
-    if with_modes:
-        try:
-            render.gl_probe()
-        except OutputError as exc:
-            no_pictures = str(exc).split(": ", 1)[-1]
-            with_modes = []
-            if skipped is not None:
-                skipped.append(no_pictures)
-    with (progress or Progress(len(with_modes) + 2, "report")) as bar:
+    # steps: each case checked (2) + imperfection, the GL probe, one picture per case, 2 plots, the file
+    n_check = 2 * len(result.cases) + 1 if _check_stage() else 0
+    total = n_check + (1 + len(with_modes) if with_modes else 0) + 3
+    tm = timings if timings is not None else {}
+    clock = [time.perf_counter()]
+
+    def lap():
+        t, clock[0] = clock[0], time.perf_counter()
+        return clock[0] - t
+    with (progress or Progress(total, "report")) as bar:
+        check = _check(result, study, progress=bar)
+        tm["check"] = lap()
+        ms = from_result(result)
+        pictures = {}
+        no_pictures = None
+        if with_modes:
+            try:
+                render.gl_probe()
+            except OutputError as exc:
+                no_pictures = str(exc).split(": ", 1)[-1]
+                with_modes = []
+                if skipped is not None:
+                    skipped.append(no_pictures)
+            bar.step("off-screen window")
+        tm["pictures"] = []
+        lap()
         for c in with_modes:
             img = render.render_mode(ms, c.name, 1, scale=None, window=window, return_img=True)
             pictures[c.name] = _png(img)
+            tm["pictures"].append(lap())
             bar.step(f"picture {c.name}")
         figs = [("alpha_cr per load case",
                  pl.png_bytes(pl.alpha_plot([c.name for c in result.cases], [c.alpha_cr for c in result.cases],
@@ -345,7 +370,10 @@ def make_report(result, out_dir, stem: str | None = None, study=None, force: boo
         if member:
             figs.append(member)
         bar.step("plots")
-    write_text(target, build_html(result, pictures, figs, check, no_pictures=no_pictures), True, protect)
+        tm["plots"] = lap()
+        write_text(target, build_html(result, pictures, figs, check, no_pictures=no_pictures), True, protect)
+        tm["write"] = lap()
+        bar.step(target.name)
     return target
 
 

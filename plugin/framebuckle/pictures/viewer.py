@@ -74,13 +74,14 @@ def build_viewer(ms, case=None, k: int = 1, off_screen: bool = False, window=(12
         c = ms.case(names[state["case"]])
         state["mode"] = int(np.clip(state["mode"], 1, len(c.load_factors)))
         _, m = ms.mode(c.name, state["mode"])
-        pts, disp = ms.curves(m)
+        pts, disp = ms.curves(m, render.samples_for(len(ms.elements)))
         s = render.auto_scale(ms.size, disp)
         base = render.polylines(pts[:, [0, -1], :])
         curve = render.polylines(pts + state["factor"] * s * disp)
         curve.point_data["|u|"] = np.linalg.norm(disp, axis=-1).reshape(-1)
         clim = [0.0, max(float(curve.point_data["|u|"].max()), 1e-12)]
-        render._draw(p, base, curve, ms.size, clim, scalar_bar=True)
+        render._draw(p, base, curve, ms.size, clim, scalar_bar=True,
+                     tubes=render.drawn_as_tubes(len(ms.elements)))
         p.add_text(render.title(c, state["mode"]) + f"\nscale {state['factor'] * s:.3g} "
                    f"({state['factor']:.2g} x automatic)", position="upper_left", font_size=11,
                    color="black", name="title")
