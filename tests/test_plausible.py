@@ -229,3 +229,26 @@ def test_a_cell_with_outlying_bending_constants_is_named_not_its_torsion_constan
     res = fb.solve(portal(Iy=iy, Iz=iz), modes=1, subdivide=2)
     assert any("cell outlier: Iy of cell(s) 6 " in w for w in res.warnings)
     assert any("torsion-polar" in w and "cell(s) 6" in w for w in res.warnings)
+
+
+# ------------------------------------------------------------------ coincident points
+
+
+def test_close_pairs_equal_scipy_kdtree_pairs():
+    """framebuckle.model.sanity.close_pairs against scipy.spatial.cKDTree.query_pairs (the
+    reference library), on random clouds with pairs planted just inside and just outside r."""
+    from scipy.spatial import cKDTree
+
+    from framebuckle.model.sanity import close_pairs
+    rng = np.random.default_rng(11)
+    for trial in range(20):
+        P = rng.uniform(-50, 50, (300, 3))
+        r = 1e-6 * 100
+        base = rng.integers(0, 300, 40)
+        d = rng.standard_normal((40, 3))
+        d *= (r * rng.choice([0.0, 0.3, 0.999, 1.001, 1.7], 40) / np.linalg.norm(d, axis=1))[:, None]
+        P = np.concatenate([P, P[base] + d, P[base[:5]]])          # incl. exact duplicates
+        ref = np.asarray(sorted(map(tuple, cKDTree(P).query_pairs(r, output_type="ndarray").tolist())))
+        got = close_pairs(P, r)
+        assert got.tolist() == (ref.tolist() if len(ref) else []), trial
+    assert close_pairs(np.zeros((1, 3)), 1.0).shape == (0, 2)

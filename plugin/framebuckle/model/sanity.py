@@ -43,12 +43,12 @@ force unit a power of 1000 away that brings the strain to 1e-4.
 
 from __future__ import annotations
 
+import itertools
 import math
 
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.csgraph as csgraph
-from scipy.spatial import cKDTree
 
 from .model import Frame
 
@@ -198,6 +198,41 @@ def unused_points(frame: Frame) -> np.ndarray:
     return np.flatnonzero(~used)
 
 
+def close_pairs(P: np.ndarray, r: float) -> np.ndarray:
+    """Pairs ``(i, j)``, ``i < j``, of rows of ``P`` (n, 3) at most ``r`` apart (Euclidean).
+
+    Candidates are the points sharing a cell of side ``2 r`` in one of the 8 grids shifted by
+    0 or ``r`` along each axis: two coordinates at most ``r`` apart share a cell of one of the
+    two grids of that axis, so every close pair is a candidate; candidates are then kept by
+    their distance.  Sorting only (no tree): the same pairs as ``scipy.spatial.cKDTree.
+    query_pairs`` (tests/test_plausible.py), without importing scipy.spatial in every run.
+    """
+    P = np.asarray(P, float)
+    n = len(P)
+    if n < 2:
+        return np.zeros((0, 2), np.int64)
+    r = float(r) if r > 0 else np.finfo(float).tiny
+    lo = P.min(axis=0)
+    found = []
+    for shift in itertools.product((0.0, r), repeat=P.shape[1]):
+        key = np.floor((P - lo + np.asarray(shift)) / (2.0 * r)).astype(np.int64)
+        order = np.lexsort(key.T[::-1])
+        k = key[order]
+        brk = np.flatnonzero((k[1:] != k[:-1]).any(axis=1)) + 1
+        starts = np.r_[0, brk]
+        ends = np.r_[brk, n]
+        for a, b in zip(starts[ends - starts > 1], ends[ends - starts > 1]):   # cells shared (rare)
+            idx = order[a:b]
+            i, j = np.triu_indices(len(idx), 1)
+            found.append(np.column_stack([idx[i], idx[j]]))
+    if not found:
+        return np.zeros((0, 2), np.int64)
+    c = np.sort(np.concatenate(found), axis=1)
+    c = np.unique(c, axis=0)
+    keep = np.linalg.norm(P[c[:, 0]] - P[c[:, 1]], axis=1) <= r
+    return c[keep]
+
+
 def coincident_points(frame: Frame) -> list[tuple[int, int]]:
     """Pairs of distinct points used by members that lie at the same place."""
     used = np.unique(frame.elements.ravel())
@@ -205,7 +240,7 @@ def coincident_points(frame: Frame) -> list[tuple[int, int]]:
         return []
     P = frame.nodes[used]
     scale = max(float(np.ptp(P, axis=0).max()), 1e-300)
-    pairs = cKDTree(P).query_pairs(COINCIDENT_TOL * scale, output_type="ndarray")
+    pairs = close_pairs(P, COINCIDENT_TOL * scale)
     if len(pairs) == 0:
         return []
     pairs = np.sort(used[pairs], axis=1)
