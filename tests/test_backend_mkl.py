@@ -98,6 +98,28 @@ def test_inertia_matches_dense_eigenvalues(grid, fraction):
     assert (pd_factor is not None) == (counts[1] == 0)
 
 
+def test_kept_analysis_gives_the_counts_of_fresh_factorizations(grid):
+    # counts at a sequence of shifts (same pattern: the handle's analysis is reused) against
+    # LAPACK eigenvalues of each matrix (Sylvester's law of inertia)
+    _, K, G = grid
+    pardiso.release_counts()
+    seen = []
+    for sigma in (2e3, 5e5, 5e6, 3e7, 2e3):
+        A = (K + sigma * G).tocsr()
+        ev = np.linalg.eigvalsh(A.toarray())
+        assert pardiso.inertia(A) == (int((ev > 0).sum()), int((ev < 0).sum()))
+        seen.append(id(next(iter(pardiso._counter.values()))))
+    assert len(set(seen)) == 1                     # one handle: the analysis was kept
+    n = K.shape[0]
+    E = sp.eye(n, k=n - 1) * 1e-3                 # a symmetric coupling of the first and last DOF:
+    B = (K + 5e5 * G + E + E.T).tocsr()           # a new pattern
+    ev = np.linalg.eigvalsh(B.toarray())
+    assert pardiso.inertia(B) == (int((ev > 0).sum()), int((ev < 0).sum()))
+    assert id(next(iter(pardiso._counter.values()))) != seen[0]
+    pardiso.release_counts()
+    assert not pardiso._counter
+
+
 def test_negative_count_goes_through_mkl(grid):
     from framebuckle.solver.verify import negative_count
     _, K, G = grid

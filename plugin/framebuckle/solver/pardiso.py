@@ -207,12 +207,13 @@ class PardisoFactor:
     Memory is released by :meth:`close` (also on garbage collection).
     """
 
-    def __init__(self, A, mtype: int = 2, ordering: int | None = None, pivots: bool = False):
+    def __init__(self, A, mtype: int = 2, ordering: int | None = None, pivots: bool = False,
+                 upper: bool = False):
         lib = load()
         if lib is None:
             raise RuntimeError(f"MKL PARDISO is not available: {_lib_error}")
         self._lib = lib
-        U = _upper_csr(A)
+        U = A if upper else _upper_csr(A)           # upper: A is already _upper_csr's output
         self.n = U.shape[0]
         if U.nnz >= 2**31 - 1:
             raise PardisoError(-2, 0)          # beyond 32-bit indices: the caller falls back
@@ -337,18 +338,57 @@ def positive_definite_factor(A, min_ratio: float = 0.0, ordering: int | None = N
     return f
 
 
+class _Counter(PardisoFactor):
+    """An ``mtype = -2`` handle whose analysis (ordering and symbolic factorization, about half
+    the time of a factorization here) serves every later matrix of the same sparsity pattern:
+    the Sturm counts of a model's load cases and of its sway search differ only in values."""
+
+    def __init__(self, U: sp.csr_matrix, ordering):
+        super().__init__(U, -2, ordering, upper=True)   # analysis + the first numeric factorization
+
+    def same_pattern(self, U: sp.csr_matrix) -> bool:
+        return (U.shape[0] == self.n and U.nnz == len(self._ja) and np.array_equal(U.indptr, self._ia)
+                and np.array_equal(U.indices, self._ja))
+
+    def refactor(self, U: sp.csr_matrix):
+        self._a[:] = U.data
+        self._call(22, np.zeros(1), np.zeros(1), 1)     # numerical factorization only
+
+
+_counter: dict = {}          # the last count's handle, per thread (one entry: the newest pattern)
+
+
 def inertia(A, ordering: int | None = None) -> tuple[int, int] | None:
     """(positive, negative) eigenvalue counts of symmetric ``A`` from one ``mtype = -2``
     factorization, or None when the count cannot be trusted (perturbed pivots, a zero
-    pivot, counts not adding up to ``n``)."""
+    pivot, counts not adding up to ``n``).
+
+    The handle of the last count is kept (one per thread): a matrix of the same pattern and
+    ordering is factored again without a new analysis (the result is the same: PARDISO's
+    analysis depends on the pattern only).
+    """
+    U = _upper_csr(A)
+    key = threading.get_ident()
+    f = _counter.pop(key, None)
     try:
-        f = PardisoFactor(A, -2, ordering)
+        if f is not None and f._open and f.ordering == ordering and f.same_pattern(U):
+            f.refactor(U)
+        else:
+            if f is not None:
+                f.close()
+            f = _Counter(U, ordering)
+            f.ordering = ordering
     except PardisoError:
         return None
-    try:
-        pos, neg, perturbed = f.inertia()
-    finally:
-        f.close()
+    pos, neg, perturbed = f.inertia()
+    _counter[key] = f
     if perturbed or pos + neg != f.n:
         return None
     return pos, neg
+
+
+def release_counts():
+    """Free the kept count handles (their factor's memory)."""
+    while _counter:
+        _, f = _counter.popitem()
+        f.close()
