@@ -222,3 +222,16 @@ def test_explicit_mkl_without_library_is_an_error(monkeypatch):
     assert pardiso.check_choice("auto") == "auto"           # auto falls back to scipy
     with pardiso.use("auto"):
         assert pardiso.backend() == "scipy"
+
+
+def test_auto_uses_mkl_from_its_size_threshold(monkeypatch):
+    # "auto": scipy below pardiso.AUTO_MIN rows, MKL from there on; "mkl" always MKL
+    m = frames.portal()
+    with pardiso.use("auto"):
+        assert framebuckle.solve(m, modes=2, subdivide=8).timings["backend"] == "scipy"
+        monkeypatch.setattr(pardiso, "AUTO_MIN", 0)
+        assert framebuckle.solve(m, modes=2, subdivide=8).timings["backend"] == "mkl"
+    monkeypatch.setattr(pardiso, "AUTO_MIN", 10**9)
+    with pardiso.use("mkl"):
+        assert framebuckle.solve(m, modes=2, subdivide=8).timings["backend"] == "mkl"
+

@@ -149,8 +149,8 @@ def block_krylov_schur(solve, K, mG, nev: int, *, block: int | None = None,
         from threadpoolctl import threadpool_limits
     except ImportError:                          # optional: only a speed matter
         return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept)
-    from .pardiso import blas_limits         # MKL's own threads stay when it is the backend
-    with threadpool_limits(**blas_limits()):
+    from .pardiso import blas_limits         # MKL on one thread too (see there)
+    with threadpool_limits(**blas_limits(block=True)):
         return _bks(solve, K, mG, nev, block, basis, tol, X0, max_cycles, seed, progress, accept)
 
 
@@ -313,8 +313,8 @@ def rough_lowest(solve, K, mG, X0=None, block: int = 4, steps: int = 8, nvec: in
         from threadpoolctl import threadpool_limits
     except ImportError:                          # optional: only a speed matter
         return _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed)
-    from .pardiso import blas_limits         # MKL's own threads stay when it is the backend
-    with threadpool_limits(**blas_limits()):
+    from .pardiso import blas_limits         # MKL on one thread too (see there)
+    with threadpool_limits(**blas_limits(block=True)):
         return _rough_lowest(solve, K, mG, X0, block, steps, nvec, seed)
 
 
@@ -356,7 +356,7 @@ def factor_shift(K, G, sigma: float, tries: int = 8, lower: float = 0.7):
     from . import pardiso                     # optional backend (extra "fast")
     for i in range(tries):
         A = sp.csc_matrix(K + sigma * G)
-        if pardiso.active():                 # Cholesky succeeds only on a positive definite A
+        if pardiso.used_for(A.shape[0]):     # Cholesky succeeds only on a positive definite A
             pf = pardiso.positive_definite_factor(A)
             if pf is not None:
                 return Shift(float(sigma), A, pf, i + 1, np.nan)

@@ -93,7 +93,7 @@ def negative_count(A) -> tuple[int | None, str]:
     if n <= DENSE_STURM:
         return _dense_negative(A), "dense LDL^T"
     from . import pardiso                     # optional backend (extra "fast")
-    if pardiso.active():                     # one LDL^T (mtype -2): inertia without perturbed pivots
+    if pardiso.used_for(n):                  # one LDL^T (mtype -2): inertia without perturbed pivots
         counts = pardiso.inertia(A)
         if counts is not None:
             return counts[1], "sparse LDL^T (MKL PARDISO)"
