@@ -51,7 +51,7 @@ def baseline_of(r):
 
 hdr = ("| size | DOFs | backend | tool process [s] | read / assembly / factor / case 1 / case 2 / write [s] | "
        "tool peak [MiB] (process tree) | floor splu [s] (factor) | floor mkl [s] (factor) | tool / floor | "
-       "1 case / floor | extra case / first | baseline [s] | baseline / tool |")
+       "1 case / floor | extra case / first | baseline [s] | baseline / tool | baseline / 1 case |")
 print(hdr)
 print("|" + "|".join(["---"] * (hdr.count("|") - 1)) + "|")
 for size in sorted(rows):
@@ -72,6 +72,7 @@ for size in sorted(rows):
               + f"{fcol('splu')} | {fcol('mkl')} | "
               + f"{f(t['wall_s'] / best if best else None, 2)} | {f(one / best if best else None, 2)} | "
               + f"{f(extra, 2)} | " + (f"{bl[0]:.1f} ({bl[1]})" if bl else "-") + " | "
-              + (f"{bl[0] / t['wall_s']:.1f}" if bl else "-") + " |")
+              + (f"{bl[0] / t['wall_s']:.1f}" if bl else "-") + " | "
+              + (f"{bl[0] / one:.1f}" if bl else "-") + " |")
 m = next(iter(rows.values()))["machine"]
 print(f"\nMachine: {m['nproc']} cores, {m['memory_GiB']} GiB, {m['cpu']}, Python {m['python']}.")
