@@ -234,3 +234,18 @@ def test_a_load_factor_skipped_without_a_visible_repeat_is_solved_again(monkeypa
     assert checks["retried"] == "block" and er.method == "block"
     np.testing.assert_allclose(er.load_factors, ref[:k], rtol=1e-8)
     assert checks["sturm_count"] == k
+
+
+def test_an_arpack_error_hands_the_case_to_the_block_method(monkeypatch):
+    # ARPACK failing in its own way (not only "no convergence") must not end the run: the block
+    # method solves the case; LAPACK reference as above
+    import scipy.sparse.linalg as spla
+    from framebuckle.solver import arpack as A
+
+    def broken(*args, **kw):
+        raise spla.ArpackError(-9999)               # "could not build an Arnoldi factorization"
+    monkeypatch.setattr(A.spla, "eigsh", broken)
+    f, K, Gm = _plane_frame_pencil()
+    er, checks = _solve_default(f, K, Gm, 3)
+    assert er.method == "block"
+    np.testing.assert_allclose(er.load_factors, dense_load_factors(K, Gm, 3), rtol=1e-8)

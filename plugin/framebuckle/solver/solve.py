@@ -256,8 +256,8 @@ def _lanczos(factor: Factor, Kff, Gff, k: int, v0, source: str, case: str):
     try:
         with _one_blas_thread():
             mu, vec = _arpack(-Gff, Kff, op, kk, ncv, _start_vector(n, v0), case, source, tol=LANCZOS_TOL)
-    except SolverError:
-        return None, None
+    except (SolverError, spla.ArpackError, np.linalg.LinAlgError):   # not converged, or ARPACK's
+        return None, None                                             # own error: the block method
     pos = mu > max(mu.max(), 0.0) * 1e-9 if mu.size else mu > 0
     if mu.size == 0 or mu.max() <= 0 or not pos.any():
         return EigenResult(np.empty(0), np.empty((n, 0)), np.empty(0), False, "arpack"), None
