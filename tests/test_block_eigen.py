@@ -40,8 +40,9 @@ def columns(n_cols, L=4.0, I=8e-6, spread=0.0, m=4):
     return subdivide(fr, m), np.full(n_cols, -1000.0)
 
 
-def portal_grid(nb=2, ns=2, h=3.5, bay=5.0, m=3):
-    """A doubly symmetric space frame: nb x nb bays, ns storeys, square columns, fixed bases."""
+def grid_layout(nb, ns, h=3.5, bay=5.0):
+    """Points, cells (columns first, then beams along x and y), the number of columns, the cells'
+    orientation vectors and the restraints (fixed bases) of an nb x nb bay, ns storey space grid."""
     g = np.arange(nb + 1) * bay
     X, Y, Z = np.meshgrid(g, g, np.arange(ns + 1) * h, indexing="ij")
     pts = np.stack([X.ravel(), Y.ravel(), Z.ravel()], 1)
@@ -51,13 +52,19 @@ def portal_grid(nb=2, ns=2, h=3.5, bay=5.0, m=3):
     by = np.stack([nid[:, :-1, 1:].ravel(), nid[:, 1:, 1:].ravel()], 1)
     el = np.concatenate([col, bx, by])
     nc = len(col)
-    I = np.r_[np.full(nc, 6e-5), np.full(len(el) - nc, 2e-4)]
-    Iz = np.r_[np.full(nc, 6e-5), np.full(len(el) - nc, 1e-5)]
     ori = np.zeros((len(el), 3))
     ori[:nc, 0] = 1
     ori[nc:, 2] = 1
     rest = np.zeros((len(pts), 6), bool)
     rest[nid[:, :, 0].ravel()] = True
+    return pts, el, nc, ori, rest
+
+
+def portal_grid(nb=2, ns=2, h=3.5, bay=5.0, m=3):
+    """A doubly symmetric space frame: nb x nb bays, ns storeys, square columns, fixed bases."""
+    pts, el, nc, ori, rest = grid_layout(nb, ns, h, bay)
+    I = np.r_[np.full(nc, 6e-5), np.full(len(el) - nc, 2e-4)]
+    Iz = np.r_[np.full(nc, 6e-5), np.full(len(el) - nc, 1e-5)]
     fr = make_frame(pts, el, E, G, 1e-2, I, Iz, 1e-6, orientation=ori, restraint=rest)
     floors = ns - (np.arange(nc) % ns)           # storeys carried by each column (from the top)
     axial = np.r_[-1e5 * floors, np.zeros(len(el) - nc)]

@@ -15,7 +15,7 @@ import pytest
 from framebuckle.model.model import make_frame
 from framebuckle.model.refine import subdivide
 from framebuckle.solver.verify import solve_checked
-from test_block_eigen import dense_load_factors, matrices
+from test_block_eigen import dense_load_factors, grid_layout, matrices
 
 E, G = 210e9, 81e9
 
@@ -24,25 +24,11 @@ def random_frame(seed: int):
     rng = np.random.default_rng(seed)
     symmetric = seed % 2 == 0
     nb, ns = int(rng.integers(1, 4)), int(rng.integers(1, 4))
-    bay, h = 5.0, 3.5
-    g = np.arange(nb + 1) * bay
-    X, Y, Z = np.meshgrid(g, g, np.arange(ns + 1) * h, indexing="ij")
-    pts = np.stack([X.ravel(), Y.ravel(), Z.ravel()], 1)
-    nid = np.arange(len(pts)).reshape(nb + 1, nb + 1, ns + 1)
-    col = np.stack([nid[:, :, :-1].ravel(), nid[:, :, 1:].ravel()], 1)
-    bx = np.stack([nid[:-1, :, 1:].ravel(), nid[1:, :, 1:].ravel()], 1)
-    by = np.stack([nid[:, :-1, 1:].ravel(), nid[:, 1:, 1:].ravel()], 1)
-    el = np.concatenate([col, bx, by])
-    nc = len(col)
+    pts, el, nc, ori, rest = grid_layout(nb, ns)
     spread = 0.0 if symmetric else 0.3       # sections, areas and torsion constants scattered
     Ic = 6e-5 * (1 + spread * rng.random(nc))
     I = np.r_[Ic, np.full(len(el) - nc, 2e-4)]
     Iz = np.r_[Ic if symmetric else Ic * (0.5 + rng.random(nc)), np.full(len(el) - nc, 1e-5)]
-    ori = np.zeros((len(el), 3))
-    ori[:nc, 0] = 1
-    ori[nc:, 2] = 1
-    rest = np.zeros((len(pts), 6), bool)
-    rest[nid[:, :, 0].ravel()] = True
     A = 1e-2 * (1 + spread * rng.random(len(el)))
     # a small J makes St. Venant torsional buckling govern, whose load factor does not depend on
     # the wave form (N_T = G J A / I_p: Timoshenko & Gere 1961, sec. 5.3): a repeat as many times as
