@@ -204,3 +204,29 @@ def test_arpack_start_vector_does_not_hide_other_parts():
     res = fb.solve(mesh, modes=4, method="arpack", subdivide=12)
     ref = dense_load_factors(mesh, m=12, k=4, case=1)       # scipy.linalg.eigh (LAPACK)
     np.testing.assert_allclose(res.case("second").load_factors, ref, rtol=1e-8)
+
+
+def test_default_large_model_path_is_invariant():
+    """The default eigensolution of a model large enough for the iterative path (ARPACK first):
+    a rigid motion, renumbered points and cells, and millimetres with N/mm^2 give the same load
+    factors (frame indifference and consistent units: common practice)."""
+    kw = frame3d()
+    run = lambda mesh: fb.solve(mesh, modes=5, subdivide=8, mesh_check=False)
+    ref = run(line_mesh(**kw))
+    assert len(ref.pencil.free) > 240 and ref.cases[0].method == "arpack"
+    a = ref.cases[0].load_factors
+    moved = run(line_mesh(**_rigid_motion(kw)))
+    np.testing.assert_allclose(moved.cases[0].load_factors, a, rtol=1e-9)
+    rng = np.random.default_rng(4)
+    n = len(kw["points"])
+    perm = rng.permutation(n)
+    inv = np.argsort(perm)
+    order = rng.permutation(len(kw["cells"]))
+    kw2 = dict(kw, points=kw["points"][perm], restraint=np.asarray(kw["restraint"])[perm],
+               cells=inv[np.asarray(kw["cells"])][order], axial=np.asarray(kw["axial"], float)[order],
+               orientation=np.asarray(kw["orientation"])[order], bar=np.asarray(kw["bar"])[order])
+    np.testing.assert_allclose(run(line_mesh(**kw2)).cases[0].load_factors, a, rtol=1e-9)
+    mm = line_mesh(**dict(kw, points=kw["points"] * 1e3))
+    for name, f in (("E", 1e-6), ("G", 1e-6), ("A", 1e6), ("Iy", 1e12), ("Iz", 1e12), ("J", 1e12)):
+        mm.cell_data[name] = [np.asarray(mm.cell_data[name][0]) * f]
+    np.testing.assert_allclose(run(mm).cases[0].load_factors, a, rtol=1e-9)
